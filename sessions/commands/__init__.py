@@ -1,0 +1,1 @@
+"""One module per ``floatlift`` sub-command; see :mod:`sessions.cli`."""

@@ -1,0 +1,54 @@
+"""Shared test fixtures.
+
+Services: ``scripts/test.sh`` starts a throwaway PostgreSQL server and exports its URL
+as ``FLOATLIFT_TEST_PG_URL``. Tests that need a service call :func:`need_service`, which
+skips when the service is absent, or fails when ``FLOATLIFT_REQUIRE_SERVICES=1`` (CI).
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import pytest
+
+PROJECT_ROOT = Path(__file__).resolve().parent.parent
+SHARED_DIR = PROJECT_ROOT.parent / "shared"
+FOREIGN_GPX_DIR = SHARED_DIR / "foreign_gpx"
+SAMPLE_TRACKS_DIR = PROJECT_ROOT / "sample_tracks"
+ARTIFACTS_DIR = PROJECT_ROOT / "test-artifacts"
+
+
+def need_service(available: bool, reason: str) -> None:
+    """Skip (or, with FLOATLIFT_REQUIRE_SERVICES=1, fail) when a service is missing."""
+    if available:
+        return
+    if os.environ.get("FLOATLIFT_REQUIRE_SERVICES") == "1":
+        pytest.fail(f"required service missing: {reason}")
+    pytest.skip(reason)
+
+
+@pytest.fixture(scope="session")
+def project_root() -> Path:
+    return PROJECT_ROOT
+
+
+@pytest.fixture(scope="session")
+def foreign_gpx_dir() -> Path:
+    if not FOREIGN_GPX_DIR.is_dir():
+        pytest.skip(f"folder of GPX files from other software not present beside the project ({FOREIGN_GPX_DIR.name})")
+    return FOREIGN_GPX_DIR
+
+
+@pytest.fixture(scope="session")
+def pg_url() -> str:
+    """URL of the throwaway PostgreSQL server of this test run."""
+    url = os.environ.get("FLOATLIFT_TEST_PG_URL", "")
+    need_service(bool(url), "no PostgreSQL test server (run the suite through scripts/test.sh)")
+    return url
+
+
+@pytest.fixture(scope="session")
+def artifacts_dir() -> Path:
+    ARTIFACTS_DIR.mkdir(exist_ok=True)
+    return ARTIFACTS_DIR
