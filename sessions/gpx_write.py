@@ -2,8 +2,8 @@
 
 The writer is the inverse of :func:`sessions.gpx.read_gpx` for the columns of the track
 schema (:mod:`sessions.track`): times are written in UTC with a ``Z`` suffix and as many
-fractional-second digits as needed (up to microseconds), coordinates with 9 decimals
-(about 0.1 mm), elevation when present, and reported speed as a ``<speed>`` element inside
+fractional-second digits as needed (up to microseconds), coordinates with 7 decimals by
+default (about 1 cm), elevation when present, and reported speed as a ``<speed>`` element inside
 the point's ``<extensions>`` in a floatlift namespace. A new ``<trkseg>`` starts whenever the
 ``segment`` column changes.
 """
@@ -39,6 +39,7 @@ def write_gpx(
     *,
     name: str | None = None,
     creator: str = "floatlift",
+    decimals: int = 7,
 ) -> bytes:
     """Write track points (track schema columns) as a GPX 1.1 document.
 
@@ -53,6 +54,8 @@ def write_gpx(
         Track name.
     creator : str
         The GPX ``creator`` attribute.
+    decimals : int
+        Decimals of latitude and longitude (7 is about 1 cm; 9 about 0.1 mm).
 
     Returns
     -------
@@ -78,7 +81,7 @@ def write_gpx(
     for i in range(n):
         if i > 0 and seg[i] != seg[i - 1]:
             w("</trkseg>\n<trkseg>\n")
-        w(f'<trkpt lat="{lat[i]:.9f}" lon="{lon[i]:.9f}">')
+        w(f'<trkpt lat="{lat[i]:.{decimals}f}" lon="{lon[i]:.{decimals}f}">')
         if not np.isnan(ele[i]):
             w(f"<ele>{ele[i]:.3f}</ele>")
         w(f"<time>{times[i]}</time>")
