@@ -63,8 +63,16 @@ class RiderSpecError(FloatliftError, ValueError):
     """Rider data (mass, ability) could not be understood."""
 
 
+class ConditionsError(FloatliftError, ValueError):
+    """Water or wave conditions (temperature, salinity, preset, trim range) are not usable."""
+
+
 class ManifestError(FloatliftError, ValueError):
     """A manifest linking tracks to riders, boards and conditions is malformed."""
+
+
+class SimulationError(FloatliftError, ValueError):
+    """Settings of the session simulator are out of range or a truth file is unreadable."""
 
 
 class AnalysisError(FloatliftError, ValueError):
@@ -77,6 +85,10 @@ class StoreError(FloatliftError, RuntimeError):
 
 class NotFoundError(FloatliftError, LookupError):
     """A rider, board or session named by the user does not exist."""
+
+
+class LibraryInputError(FloatliftError, ValueError):
+    """A value given to the session library (conditions, scores, names) is malformed or out of range."""
 
 
 class ModelValidityWarning(UserWarning):
