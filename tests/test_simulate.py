@@ -1,0 +1,296 @@
+"""Tests of the session simulator: API, determinism, truth consistency, GPS errors, CLI."""
+
+from __future__ import annotations
+
+import gzip
+import io
+import json
+import math
+
+import numpy as np
+import pandas as pd
+import pytest
+from geographiclib.geodesic import Geodesic
+
+from sessions import cli
+from sessions.errors import SimulationError
+from sessions.simulate import (
+    DT_S,
+    STATES,
+    TRUTH_SCHEMA,
+    SimConfig,
+    board_onset_speed_mps,
+    breaking_wave_speed_mps,
+    local_to_latlon,
+    read_truth,
+    simulate_session,
+    truth_path_for,
+)
+from sessions.track import COLUMNS
+
+
+@pytest.fixture(scope="module")
+def sim():
+    return simulate_session(SimConfig(seed=7, duration_s=3600, reported_speed=True, elevation=True))
+
+
+def _t(text: str) -> pd.Timestamp:
+    return pd.Timestamp(text)
+
+
+# --- API and schema ------------------------------------------------------------------
+def test_points_follow_the_track_schema(sim):
+    pts = sim.points
+    assert tuple(pts.columns) == COLUMNS
+    assert str(pts["time"].dtype) == "datetime64[ns, UTC]"
+    assert pts["time"].is_monotonic_increasing and pts["time"].is_unique
+    assert pts["lat"].dtype == np.float64 and pts["segment"].dtype == np.int32
+    assert pts["speed_mps"].notna().all() and pts["ele_m"].notna().all()
+    plain = simulate_session(SimConfig(seed=7, duration_s=1800))
+    assert plain.points["speed_mps"].isna().all() and plain.points["ele_m"].isna().all()
+
+
+def test_same_seed_same_session_other_seed_other_session():
+    a = simulate_session(SimConfig(seed=3, duration_s=1800))
+    b = simulate_session(SimConfig(seed=3, duration_s=1800))
+    c = simulate_session(SimConfig(seed=4, duration_s=1800))
+    pd.testing.assert_frame_equal(a.points, b.points)
+    assert a.truth == b.truth
+    assert a.gpx_bytes() == b.gpx_bytes()
+    assert len(c.points) != len(a.points) or not np.allclose(c.points["lat"], a.points["lat"])
+
+
+def test_sampling_schemes():
+    one = simulate_session(SimConfig(seed=2, duration_s=1800, sampling="1hz", dropouts=False))
+    five = simulate_session(SimConfig(seed=2, duration_s=1800, sampling="5hz", dropouts=False))
+    smart = simulate_session(SimConfig(seed=2, duration_s=1800, sampling="smart", dropouts=False))
+    d1 = one.points["time"].diff().dt.total_seconds().dropna()
+    d5 = five.points["time"].diff().dt.total_seconds().dropna()
+    ds = smart.points["time"].diff().dt.total_seconds().dropna()
+    assert np.allclose(d1, 1.0)
+    assert np.allclose(d5, 0.2)
+    assert ds.min() >= 1.0 - 1e-9 and ds.max() <= 8.0 + 1e-9
+    assert ds.nunique() > 3  # irregular
+    # denser while riding fast: fixes inside rides are 1 s apart
+    for r in smart.truth["rides"]:
+        t = smart.points["time"]
+        inside = t[(t > _t(r["start"]) + pd.Timedelta(seconds=2)) & (t < _t(r["end"]) - pd.Timedelta(seconds=3))]
+        if len(inside) > 1:
+            assert inside.diff().dt.total_seconds().dropna().max() <= 1.0 + 1e-9
+
+
+def test_bad_settings_raise_a_floatlift_error():
+    with pytest.raises(SimulationError, match="sampling"):
+        SimConfig(sampling="2hz")
+    with pytest.raises(SimulationError, match="style"):
+        SimConfig(style="medium")
+    with pytest.raises(SimulationError, match="wave_face_m"):
+        SimConfig(wave_face_m=-1)
+    with pytest.raises(SimulationError, match="duration_s"):
+        SimConfig(duration_s=float("nan"))
+    with pytest.raises(SimulationError, match="start"):
+        SimConfig(start="2026-04-18 07:00")  # no time zone
+
+
+# --- truth ------------------------------------------------------------------------------
+def test_truth_document_is_consistent(sim):
+    tr = sim.truth
+    assert tr["schema"] == TRUTH_SCHEMA and tr["seed"] == 7
+    assert tr["config"]["duration_s"] == 3600
+    assert tr["start"].endswith("Z") and tr["end"].endswith("Z")
+    start, end = _t(tr["start"]), _t(tr["end"])
+    # run-length states tile the session without gaps
+    runs = tr["states"]
+    assert runs[0]["start"] == tr["start"] and runs[-1]["end"] == tr["end"]
+    for a, b in zip(runs[:-1], runs[1:]):
+        assert a["end"] == b["start"] and a["state"] != b["state"]
+    assert {r["state"] for r in runs} == set(STATES)
+    # "seconds" agrees with the runs
+    secs = tr["seconds"]
+    assert len(secs) == int((end - start).total_seconds()) + 1
+    for r in runs:
+        t0 = math.ceil((_t(r["start"]) - start).total_seconds())
+        t1 = (_t(r["end"]) - start).total_seconds()
+        for k in range(t0, int(math.ceil(t1))):
+            assert secs[k] == r["state"]
+    # totals agree with the runs
+    for s in STATES:
+        total = sum((_t(r["end"]) - _t(r["start"])).total_seconds() for r in runs if r["state"] == s)
+        assert tr["totals"]["time_in_state_s"][s] == pytest.approx(total, abs=0.2)
+    assert tr["totals"]["rides"] == len(tr["rides"]) > 0
+    assert tr["totals"]["missed_waves"] == len(tr["missed_waves"])
+
+
+def test_rides_have_onset_before_peak_and_match_ride_runs(sim):
+    tr = sim.truth
+    ride_runs = [(r["start"], r["end"]) for r in tr["states"] if r["state"] == "ride"]
+    assert ride_runs == [(r["start"], r["end"]) for r in tr["rides"]]
+    m = sim.true_motion
+    for r in tr["rides"]:
+        assert _t(r["paddle_start"]) <= _t(r["catch_start"]) < _t(r["start"]) < _t(r["end"])
+        assert r["duration_s"] == pytest.approx((_t(r["end"]) - _t(r["start"])).total_seconds())
+        assert r["onset_speed_mps"] < r["peak_speed_mps"]
+        i0, i1 = round(r["start_s"] / DT_S), round(r["end_s"] / DT_S)
+        assert m["speed_mps"].iloc[i0] == pytest.approx(r["onset_speed_mps"], abs=1e-3)
+        assert m["speed_mps"].iloc[i0:i1].max() == pytest.approx(r["peak_speed_mps"], abs=1e-3)
+        # the catch: displacement-mode speeds, rising to the onset
+        c0 = round((_t(r["catch_start"]) - _t(tr["start"])).total_seconds() / DT_S)
+        catch = m["speed_mps"].iloc[c0:i0].to_numpy()
+        assert 0.9 <= catch[0] <= 1.6 and np.all(np.diff(catch) > 0) and catch[-1] < r["onset_speed_mps"]
+        accel = np.diff(catch).mean() / DT_S
+        assert 0.2 - 1e-9 <= accel <= 0.5 + 1e-9
+        # ride ends slow (kick-out or fall)
+        assert m["speed_mps"].iloc[i1 - 1] <= 1.0 + 1e-9
+        assert r["distance_m"] == pytest.approx(m["speed_mps"].iloc[i0:i1].sum() * DT_S, abs=0.006)
+
+
+def test_ride_onsets_scatter_around_the_board_value():
+    sims = [simulate_session(SimConfig(seed=s, duration_s=5400, board_onset_mps=2.8)) for s in range(4)]
+    onsets = np.array([r["onset_speed_mps"] for sm in sims for r in sm.truth["rides"]])
+    assert len(onsets) > 30
+    assert onsets.mean() == pytest.approx(2.8, abs=0.12)
+    assert 0.15 < onsets.std() < 0.35
+
+
+def test_rides_stay_in_the_water_and_lineup_is_offshore(sim):
+    m = sim.true_motion
+    ride = m[m["state"] == STATES.index("ride")]
+    assert ride["x_m"].min() > 10.0
+    wait = m[m["state"] == STATES.index("wait")]
+    lineup = sim.truth["shore"]["lineup_offshore_m"]
+    assert 100.0 <= lineup <= 300.0
+    assert np.median(wait["x_m"]) == pytest.approx(lineup, abs=30.0)
+    shore = m[m["state"] == STATES.index("shore")]
+    assert shore["x_m"].max() <= 0.5
+
+
+def test_gps_error_is_of_the_configured_size():
+    cfg = SimConfig(seed=11, duration_s=3600, gps_sigma_m=3.0, gps_white_m=0.0, outlier_rate=0.0, dropouts=False)
+    sm = simulate_session(cfg)
+    lat, lon = local_to_latlon(cfg, sm.true_motion["x_m"].to_numpy()[::5], sm.true_motion["y_m"].to_numpy()[::5])
+    g = Geodesic.WGS84
+    err = np.array([g.Inverse(a, b, c, d)["s12"] for a, b, c, d in zip(lat, lon, sm.points["lat"], sm.points["lon"])])
+    # 2-D error of a Gauss-Markov process with sigma 3 m per axis: RMS = 3*sqrt(2)
+    rms = float(np.sqrt(np.mean(err**2)))
+    assert 3.0 < rms < 6.0
+
+
+def test_outliers_and_dropouts_appear_when_asked():
+    cfg = SimConfig(seed=5, duration_s=3600, outlier_rate=0.01, gps_sigma_m=1.0)
+    sm = simulate_session(cfg)
+    gaps = sm.points["time"].diff().dt.total_seconds().dropna()
+    assert (gaps >= 5.0).sum() >= 1
+    lat, lon = local_to_latlon(cfg, sm.true_motion["x_m"].to_numpy(), sm.true_motion["y_m"].to_numpy())
+    t_idx = np.round((sm.points["time"] - sm.points["time"].iloc[0]).dt.total_seconds().to_numpy() / DT_S).astype(int)
+    g = Geodesic.WGS84
+    err = np.array(
+        [g.Inverse(lat[i], lon[i], a, b)["s12"] for i, a, b in zip(t_idx, sm.points["lat"], sm.points["lon"])]
+    )
+    n_out = int((err > 18.0).sum())
+    assert 0.4 * 0.01 * len(err) < n_out < 2.0 * 0.01 * len(err)
+
+
+def test_reported_speed_is_true_speed_plus_noise(sim):
+    t_idx = np.round(
+        (sim.points["time"] - sim.points["time"].iloc[0]).dt.total_seconds().to_numpy() / DT_S
+    ).astype(int)
+    true = sim.true_motion["speed_mps"].to_numpy()[t_idx]
+    diff = sim.points["speed_mps"].to_numpy() - true
+    moving = true > 1.0
+    assert abs(diff[moving].mean()) < 0.05
+    assert 0.15 < diff[moving].std() < 0.25
+
+
+# --- geometry and physics links --------------------------------------------------------
+def test_shore_frame_to_latlon_matches_geodesics():
+    # reference: geographiclib (Karney 2013, J. Geodesy 87:43-55) direct problem
+    cfg = SimConfig(origin_lat=44.13, origin_lon=-1.31, seaward_bearing_deg=277.0)
+    g = Geodesic.WGS84
+    for x, y in [(250.0, 0.0), (0.0, -400.0), (-45.0, 30.0), (1500.0, 900.0)]:
+        lat, lon = local_to_latlon(cfg, np.array([x]), np.array([y]))
+        az = 277.0 + math.degrees(math.atan2(y, x))  # y is to the right of seaward
+        ref = g.Direct(44.13, -1.31, az, math.hypot(x, y))
+        inv = g.Inverse(ref["lat2"], ref["lon2"], float(lat[0]), float(lon[0]))
+        assert inv["s12"] < 1e-3 * max(1.0, math.hypot(x, y)) * 1e-3 + 2e-3
+
+
+def test_breaking_wave_speed_against_published_values():
+    # solitary-wave celerity c = sqrt(g (d+H)) with McCowan d = H/0.78 (McCowan 1894,
+    # Phil. Mag. 38:351); values for H = 0.5/1.0/2.0 m recomputed independently:
+    # sqrt(9.80665 * (H/0.78 + H))
+    for h, c in [(0.5, 3.3451), (1.0, 4.7307), (2.0, 6.6902)]:
+        assert breaking_wave_speed_mps(h) == pytest.approx(c, abs=1e-4)
+
+
+def test_board_onset_speed_link():
+    # v = sqrt(2 k m g / (rho A C_L)); 0.55 m^2, 78 kg, defaults k=0.5, C_L=0.14, rho=1025:
+    # sqrt(78 * 9.80665 / (1025 * 0.55 * 0.14)) = 3.1132 m/s (hand computation)
+    assert board_onset_speed_mps(0.55, 78.0) == pytest.approx(3.1132, abs=1e-3)
+    # bigger board and lighter load plane earlier; v scales as sqrt(m/A)
+    assert board_onset_speed_mps(0.60, 78.0) < board_onset_speed_mps(0.55, 78.0)
+    assert board_onset_speed_mps(0.55, 60.0) < board_onset_speed_mps(0.55, 78.0)
+    assert board_onset_speed_mps(0.55 * 2, 78.0 * 2) == pytest.approx(board_onset_speed_mps(0.55, 78.0))
+    with pytest.raises(SimulationError, match="planform_area_m2"):
+        board_onset_speed_mps(0.0, 78.0)
+    with pytest.raises(SimulationError, match="total_mass_kg"):
+        board_onset_speed_mps(0.5, float("nan"))
+
+
+# --- files and CLI -------------------------------------------------------------------
+def test_write_gpx_gz_and_truth(tmp_path, sim):
+    track, truth = sim.write(tmp_path / "s1.gpx.gz")
+    assert truth == tmp_path / "s1.truth.json" == truth_path_for(tmp_path / "s1.gpx.gz")
+    assert gzip.decompress(track.read_bytes()) == sim.gpx_bytes()
+    assert read_truth(truth) == json.loads(json.dumps(sim.truth))
+    _, truth_gz = sim.write(tmp_path / "s2.gpx", truth_gzip=True)
+    assert truth_gz.name == "s2.truth.json.gz"
+    assert read_truth(truth_gz)["seed"] == 7
+    (tmp_path / "bad.truth.json").write_text('{"schema": "other"}')
+    with pytest.raises(SimulationError, match="bad.truth.json"):
+        read_truth(tmp_path / "bad.truth.json")
+
+
+def test_gpx_reads_back(sim):
+    try:
+        from sessions.gpx import read_gpx
+    except ImportError:
+        read_gpx = None
+    data = sim.gpx_bytes()
+    if read_gpx is not None:
+        track = read_gpx(io.BytesIO(data)) if not isinstance(data, str) else read_gpx(data)
+        pts = track.points
+    else:  # the project's reader is not in this checkout yet: use gpxpy
+        import gpxpy
+
+        gpx = gpxpy.parse(data.decode("utf-8"))
+        raw = [p for t in gpx.tracks for s in t.segments for p in s.points]
+        pts = pd.DataFrame(
+            {"time": pd.to_datetime([p.time for p in raw], utc=True), "lat": [p.latitude for p in raw],
+             "lon": [p.longitude for p in raw]}
+        )
+    assert len(pts) == len(sim.points)
+    assert np.allclose(pts["lat"], sim.points["lat"], atol=1e-7)
+    assert np.allclose(pts["lon"], sim.points["lon"], atol=1e-7)
+    assert (pts["time"].reset_index(drop=True) == sim.points["time"].reset_index(drop=True)).all()
+
+
+def test_cli_writes_track_and_truth(tmp_path, capsys):
+    out = tmp_path / "demo.gpx.gz"
+    status = cli.main(["simulate", str(out), "--seed", "4", "--duration-min", "20", "--sampling", "smart",
+                       "--style", "long", "--onset-speed", "2.6", "--wave-face", "0.9", "--reported-speed"])
+    assert status == 0
+    text = capsys.readouterr().out
+    assert "demo.gpx.gz" in text and "demo.truth.json" in text and "lifeguards" in text
+    truth = read_truth(tmp_path / "demo.truth.json")
+    cfg = truth["config"]
+    assert (cfg["seed"], cfg["sampling"], cfg["style"], cfg["duration_s"]) == (4, "smart", "long", 1200.0)
+    assert (cfg["board_onset_mps"], cfg["wave_face_m"], cfg["reported_speed"]) == (2.6, 0.9, True)
+    assert b"<fl:speed>" in gzip.decompress(out.read_bytes())
+
+
+def test_cli_rejects_bad_input(tmp_path, capsys):
+    assert cli.main(["simulate", str(tmp_path / "x.txt")]) == 2
+    assert "must end in .gpx" in capsys.readouterr().err
+    assert cli.main(["simulate", str(tmp_path / "x.gpx"), "--wave-face", "-2"]) == 2
+    assert "wave_face_m" in capsys.readouterr().err
+    assert cli.main(["simulate", str(tmp_path / "nowhere" / "x.gpx")]) == 2
