@@ -1,0 +1,186 @@
+"""Accuracy and speed of the session analysis against simulated sessions with known truth.
+
+Run: ``.venv/bin/python benchmarks/bench_analysis.py [--sessions 60] [--duration 3600]``
+
+For every simulated session (seeds 0..N-1, sampling modes 1 Hz, 5 Hz and "smart" in
+turn, half of them with device speed, both riding styles) it compares the analysis with
+the simulator's truth:
+
+* ride detection: a detected ride matches a true ride when their [first riding step, end]
+  intervals overlap (one-to-one, greedy in time order); precision, recall, F1;
+* ride start error: detected start (the planing onset when found, else the first riding
+  step) minus the true start (the onset instant); ride end error likewise;
+* per-second state accuracy over the truth's whole seconds;
+* missed-wave count error.
+
+It also times ``analyse`` on a 4-hour 1 Hz track and compares it with ``gpxpy.parse`` of
+the same track written as GPX.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+
+from sessions.analysis import analyse  # noqa: E402
+from sessions.states import STATES  # noqa: E402
+from sessions.track import Track, TrackMeta  # noqa: E402
+
+
+def sim_track(seed: int, sampling: str, duration_s: float, reported: bool, style: str):
+    from sessions.simulate import SimConfig, simulate_session
+
+    sim = simulate_session(SimConfig(seed=seed, sampling=sampling, duration_s=duration_s, reported_speed=reported, style=style))
+    track = Track(sim.points.reset_index(drop=True), TrackMeta(source=f"sim-{seed}.gpx", sha256="0" * 64))
+    return sim, track
+
+
+def _t(truth_start: pd.Timestamp, iso: str) -> float:
+    return (pd.Timestamp(iso) - truth_start).total_seconds()
+
+
+def compare(result, truth: dict, track_start: pd.Timestamp) -> dict:
+    """Match rides and score states; times in seconds since the track's first fix."""
+    true_rides = [(_t(track_start, r["start"]), _t(track_start, r["end"]), _t(track_start, r["catch_start"])) for r in truth["rides"]]
+    det = [(r.first_ride_s, r.end_s, r.start_s, r.catch_start_s) for r in result.rides]
+    used = set()
+    start_err, end_err, first_err, catch_err = [], [], [], []
+    tp = 0
+    for ts, te, tc in true_rides:
+        for k, (ds, de, dstart, dcatch) in enumerate(det):
+            if k in used:
+                continue
+            if ds <= te and de >= ts:
+                used.add(k)
+                tp += 1
+                start_err.append(dstart - ts)
+                first_err.append(ds - ts)
+                end_err.append(de - te)
+                catch_err.append(dcatch - tc)
+                break
+    # per-second states
+    t0 = _t(track_start, truth["start"]) if "start" in truth else 0.0
+    sec = np.asarray(truth["seconds"])
+    grid = result.samples
+    gt = grid["t_s"].to_numpy()
+    gs = grid["state"].astype(str).to_numpy()
+    want = t0 + np.arange(len(sec))
+    j = np.searchsorted(gt, want - 1e-6)
+    ok = (j < len(gt)) & (np.abs(gt[np.minimum(j, len(gt) - 1)] - want) < 0.5)
+    got = np.where(ok, gs[np.minimum(j, len(gt) - 1)], "none")
+    acc = float(np.mean(got == sec))
+    return {
+        "true": len(true_rides),
+        "det": len(det),
+        "tp": tp,
+        "start_err": start_err,
+        "first_err": first_err,
+        "end_err": end_err,
+        "catch_err": catch_err,
+        "acc": acc,
+        "missed_true": len(truth.get("missed_waves", [])),
+        "missed_det": len(result.missed_waves),
+        "confusion": pd.crosstab(pd.Series(sec, name="truth"), pd.Series(got, name="analysis")),
+    }
+
+
+def run_accuracy(n: int, duration_s: float, verbose: bool = False) -> pd.DataFrame:
+    rows = []
+    modes = ("1hz", "5hz", "smart")
+    for seed in range(n):
+        sampling = modes[seed % 3]
+        reported = (seed // 3) % 2 == 1
+        style = "long" if seed % 4 == 3 else "short"
+        sim, track = sim_track(seed, sampling, duration_s, reported, style)
+        res = analyse(track)
+        c = compare(res, sim.truth, track.start)
+        c.update(seed=seed, sampling=sampling, reported=reported)
+        if verbose:
+            print(seed, sampling, reported, c["true"], c["det"], c["tp"], round(c["acc"], 3), c["missed_true"], c["missed_det"], flush=True)
+        rows.append(c)
+    return pd.DataFrame(rows)
+
+
+def summarise(df: pd.DataFrame) -> pd.DataFrame:
+    out = []
+    for name, g in list(df.groupby("sampling")) + [("all", df)]:
+        tp, det, true = g["tp"].sum(), g["det"].sum(), g["true"].sum()
+        prec = tp / det if det else float("nan")
+        rec = tp / true if true else float("nan")
+        f1 = 2 * prec * rec / (prec + rec) if prec + rec > 0 else 0.0
+
+        def med_abs(col):
+            vals = np.concatenate([np.asarray(v, dtype=float) for v in g[col]]) if len(g) else np.zeros(0)
+            return float(np.median(np.abs(vals))) if len(vals) else float("nan")
+
+        out.append(
+            {
+                "sampling": name,
+                "sessions": len(g),
+                "true_rides": int(true),
+                "detected": int(det),
+                "precision": prec,
+                "recall": rec,
+                "F1": f1,
+                "start_mae_s": med_abs("start_err"),
+                "first_ride_mae_s": med_abs("first_err"),
+                "end_mae_s": med_abs("end_err"),
+                "catch_mae_s": med_abs("catch_err"),
+                "state_acc": float(g["acc"].mean()),
+                "missed_true": int(g["missed_true"].sum()),
+                "missed_det": int(g["missed_det"].sum()),
+            }
+        )
+    return pd.DataFrame(out)
+
+
+def run_speed() -> dict:
+    import gpxpy
+
+    from sessions.gpx_write import write_gpx
+
+    sim, track = sim_track(1, "1hz", 4 * 3600.0, False, "short")
+    times = []
+    for _ in range(5):
+        t0 = time.perf_counter()
+        analyse(track)
+        times.append(time.perf_counter() - t0)
+    data = write_gpx(track.points)
+    text = data.decode("utf-8") if isinstance(data, bytes) else data
+    ptimes = []
+    for _ in range(3):
+        t0 = time.perf_counter()
+        gpxpy.parse(text)
+        ptimes.append(time.perf_counter() - t0)
+    return {"points": track.n_points, "analyse_s": float(np.median(times)), "gpxpy_parse_s": float(np.median(ptimes))}
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--sessions", type=int, default=60)
+    ap.add_argument("--duration", type=float, default=3600.0)
+    ap.add_argument("--no-speed", action="store_true")
+    ap.add_argument("-v", "--verbose", action="store_true")
+    args = ap.parse_args(argv)
+    df = run_accuracy(args.sessions, args.duration, args.verbose)
+    with pd.option_context("display.width", 200, "display.max_columns", 30, "display.precision", 3):
+        print(summarise(df).to_string(index=False))
+        conf = sum(df["confusion"].tolist()[1:], df["confusion"].iloc[0]) if len(df) else None
+        if conf is not None:
+            print("\nper-second confusion (rows truth, columns analysis):")
+            print(conf.fillna(0).astype(int).to_string())
+    if not args.no_speed:
+        sp = run_speed()
+        print(f"\n4-hour 1 Hz track ({sp['points']} fixes): analyse {sp['analyse_s']:.3f} s, gpxpy.parse {sp['gpxpy_parse_s']:.3f} s")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

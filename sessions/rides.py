@@ -1,0 +1,237 @@
+"""Rides and missed waves from the state labels.
+
+A ride is a run of ``ride`` labels on the analysis grid that passes plausibility checks
+(duration, peak speed, direction). For each ride:
+
+* **catch start**: the moment the surfer began paddling into the wave: the last speed
+  minimum before the ride within ``catch_max_s``;
+* **start**: the planing onset from :mod:`sessions.onset` when that estimator finds one;
+  otherwise the first riding grid step;
+* **end**: the last riding grid step (kick-out, fall, or speed back to paddling);
+* duration, distance along the smoothed path, peak and mean speed.
+
+A missed wave is a burst of fast shoreward paddling that does not turn into a ride.
+
+Plausibility bounds (common practice, and the published figures in the state model):
+rides last 1-44 s in competition (Mendez-Villanueva et al. 2006) and peak at 5-12.5 m/s
+(Farley et al. 2012); a "ride" longer than ``max_ride_s`` or faster than
+``max_ride_speed_mps`` is land travel (walking, cycling, driving), not surfing.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass
+
+import numpy as np
+
+from sessions.states import PADDLE, RIDE, SHORE, WAIT, runs
+
+
+@dataclass(frozen=True)
+class RideSettings:
+    """Tunables of ride extraction (SI)."""
+
+    min_ride_s: float = 3.0  # shorter ride runs are noise [s]
+    max_ride_s: float = 120.0  # longer "rides" are land travel [s]
+    min_peak_speed_mps: float = 2.5  # a ride must reach this speed [m/s]
+    max_ride_speed_mps: float = 16.0  # faster is a vehicle or a GPS fault [m/s]
+    max_seaward_cos: float = -0.5  # mean heading more seaward than this: not a ride
+    merge_gap_s: float = 2.0  # ride runs separated by at most this are one ride [s]
+    catch_max_s: float = 15.0  # catch start searched this far before the ride [s]
+    missed_min_speed_mps: float = 1.6  # shoreward paddle burst reaching this speed [m/s]
+    missed_min_cos: float = 0.5  # heading toward shore at least this much (cosine)
+    missed_min_s: float = 3.0  # lasting at least this long [s]
+    missed_clear_s: float = 10.0  # and not within this of a ride [s]
+    use_onset: bool = True  # call the planing-onset estimator when it is installed
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+@dataclass
+class Ride:
+    """One ride; times in seconds since the first fix of the track (``t_s`` base)."""
+
+    index: int
+    catch_start_s: float
+    start_s: float
+    end_s: float
+    first_ride_s: float  # first grid step labelled ``ride``
+    peak_s: float
+    duration_s: float
+    distance_m: float
+    peak_speed_mps: float
+    mean_speed_mps: float
+    onset_time_s: float | None = None
+    onset_speed_mps: float | None = None
+    onset_ci_mps: tuple[float, float] | None = None
+    onset_time_ci_s: tuple[float, float] | None = None
+    onset_reason: str | None = None
+
+
+# --- pipeline ----------------------------------------------------------------------------
+def clean_ride_labels(labels: np.ndarray, grid_t_s, speed_mps, cos_shore, s: RideSettings) -> np.ndarray:
+    """Merge ride runs split by short gaps and relabel implausible ride runs.
+
+    An implausible run becomes ``shore`` when it is too long or too fast (land travel),
+    otherwise ``paddle``.
+    """
+    lab = np.asarray(labels).copy()
+    t = np.asarray(grid_t_s, dtype=float)
+    v = np.asarray(speed_mps, dtype=float)
+    c = np.asarray(cos_shore, dtype=float)
+    step = float(np.median(np.diff(t))) if len(t) > 1 else 1.0
+    # merge: a short non-ride run between two rides (on a continuous grid) becomes ride
+    rr = runs(lab)
+    for k in range(1, len(rr) - 1):
+        val, a, b = rr[k]
+        if val != RIDE and rr[k - 1][0] == RIDE and rr[k + 1][0] == RIDE and val != SHORE:
+            if (b - a) * step <= s.merge_gap_s and t[b] - t[a - 1] <= (b - a + 1) * step + 1e-6:
+                lab[a:b] = RIDE
+    for val, a, b in runs(lab):
+        if val != RIDE:
+            continue
+        dur = t[b - 1] - t[a] + step
+        peak = float(np.max(v[a:b]))
+        if dur > s.max_ride_s or peak > s.max_ride_speed_mps:
+            lab[a:b] = SHORE
+        elif dur < s.min_ride_s or peak < s.min_peak_speed_mps or float(np.mean(c[a:b])) < s.max_seaward_cos:
+            lab[a:b] = PADDLE
+    # a ride must start from the water (paddle or wait), not from land
+    rr = runs(lab)
+    for k, (val, a, b) in enumerate(rr):
+        if val == RIDE and k > 0 and rr[k - 1][0] == SHORE and t[a] - t[a - 1] <= step * 1.5:
+            lab[a:b] = SHORE
+    return lab
+
+
+def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed: int = 0) -> list[Ride]:
+    """Rides from cleaned labels; per-fix quantities come from the conditioned track."""
+    lab = np.asarray(labels)
+    gt = np.asarray(grid_t_s, dtype=float)
+    gv = np.asarray(grid_speed_mps, dtype=float)
+    step = float(np.median(np.diff(gt))) if len(gt) > 1 else 1.0
+    t = cond.t_s
+    v = cond.speed_mps
+    rides: list[Ride] = []
+    for val, a, b in runs(lab):
+        if val != RIDE:
+            continue
+        first = float(gt[a])
+        end = float(gt[b - 1])
+        catch = catch_start(gt, gv, lab, a, s.catch_max_s, step)
+        # per-fix samples of the ride
+        i0, i1 = np.searchsorted(t, [first, end + 1e-9], side="left")
+        i1 = max(i1, i0 + 1)
+        seg_t = t[i0:i1]
+        seg_v = v[i0:i1]
+        if len(seg_v):
+            j = int(np.argmax(seg_v))
+            peak_speed = float(seg_v[j])
+            peak_s = float(seg_t[j])
+        else:
+            g = a + int(np.argmax(gv[a:b]))
+            peak_speed, peak_s = float(gv[g]), float(gt[g])
+        ride = Ride(
+            index=len(rides),
+            catch_start_s=catch,
+            start_s=first,
+            end_s=end,
+            first_ride_s=first,
+            peak_s=peak_s,
+            duration_s=0.0,
+            distance_m=0.0,
+            peak_speed_mps=peak_speed,
+            mean_speed_mps=0.0,
+        )
+        if s.use_onset:
+            _apply_onset(ride, cond, seed + len(rides))
+        k0, k1 = np.searchsorted(t, [ride.start_s - 1e-9, end + 1e-9])
+        ride.duration_s = max(end - ride.start_s, 0.0)
+        ride.distance_m = path_length_m(cond.x_m[k0:k1], cond.y_m[k0:k1])
+        ride.mean_speed_mps = ride.distance_m / ride.duration_s if ride.duration_s > 0 else float(peak_speed)
+        rides.append(ride)
+    return rides
+
+
+def _apply_onset(ride: Ride, cond, seed: int) -> None:
+    """Fill the onset fields and move the ride start to the onset when one is found."""
+    try:
+        from sessions.onset import estimate_onset
+    except ImportError:
+        return
+    lo, hi = ride.catch_start_s, max(ride.peak_s, ride.first_ride_s)
+    if hi <= lo:
+        ride.onset_reason = "window: the peak comes before the catch start"
+        return
+    i0, i1 = np.searchsorted(cond.t_s, [lo - 2.0, hi + 2.0])
+    rep = cond.reported_speed_mps[i0:i1]
+    est = estimate_onset(
+        cond.t_s[i0:i1],
+        cond.speed_mps[i0:i1],
+        speed_sd_mps=cond.speed_sd_mps[i0:i1],
+        reported_speed_mps=rep if np.isfinite(rep).any() else None,
+        window=(lo, hi),
+        seed=seed,
+    )
+    ride.onset_reason = est.reason
+    if est.speed_mps is None or est.time_s is None:
+        return
+    ride.onset_time_s = float(est.time_s)
+    ride.onset_speed_mps = float(est.speed_mps)
+    ride.onset_ci_mps = None if est.ci_mps is None else (float(est.ci_mps[0]), float(est.ci_mps[1]))
+    ride.onset_time_ci_s = None if est.time_ci_s is None else (float(est.time_ci_s[0]), float(est.time_ci_s[1]))
+    if lo <= ride.onset_time_s < ride.end_s:
+        ride.start_s = ride.onset_time_s
+
+
+def find_missed_waves(labels, grid_t_s, speed_mps, cos_shore, s: RideSettings) -> list[tuple[float, float]]:
+    """Bursts of fast shoreward paddling that did not become a ride: ``(start_s, end_s)``."""
+    lab = np.asarray(labels)
+    t = np.asarray(grid_t_s, dtype=float)
+    v = np.asarray(speed_mps, dtype=float)
+    c = np.asarray(cos_shore, dtype=float)
+    step = float(np.median(np.diff(t))) if len(t) > 1 else 1.0
+    burst = (lab != RIDE) & (lab != SHORE) & (v >= s.missed_min_speed_mps) & (c >= s.missed_min_cos)
+    ride_t = t[lab == RIDE]
+    out = []
+    for val, a, b in runs(burst.astype(np.int8)):
+        if val != 1 or (b - a) * step < s.missed_min_s:
+            continue
+        if len(ride_t):
+            near = np.searchsorted(ride_t, [t[a] - s.missed_clear_s, t[b - 1] + s.missed_clear_s])
+            if near[1] > near[0]:
+                continue
+        out.append((float(t[a]), float(t[b - 1])))
+    return out
+
+
+# --- pure functions ----------------------------------------------------------------------
+def catch_start(gt, gv, lab, a: int, catch_max_s: float, step: float) -> float:
+    """Start of the paddle into a wave: the last speed minimum before grid index ``a``.
+
+    Searches back at most ``catch_max_s`` over water states (paddle/wait) on a
+    continuous grid; the catch starts where the speed stopped falling, i.e. at the
+    minimum of the speed in that window closest to the ride.
+    """
+    lo = a
+    while lo > 0 and gt[a] - gt[lo - 1] <= catch_max_s and lab[lo - 1] in (PADDLE, WAIT) and gt[lo] - gt[lo - 1] <= 1.5 * step:
+        lo -= 1
+    if lo == a:
+        return float(gt[a])
+    seg = gv[lo : a + 1]
+    # last index of the minimum (ties: closest to the ride)
+    j = len(seg) - 1 - int(np.argmin(seg[::-1]))
+    return float(gt[lo + j])
+
+
+def path_length_m(x_m, y_m) -> float:
+    """Length of a polyline [m]."""
+    x = np.asarray(x_m, dtype=float)
+    y = np.asarray(y_m, dtype=float)
+    if len(x) < 2:
+        return 0.0
+    return float(np.sum(np.hypot(np.diff(x), np.diff(y))))
+
+
+__all__ = ["Ride", "RideSettings", "clean_ride_labels", "extract_rides", "find_missed_waves", "catch_start", "path_length_m", "WAIT"]
