@@ -54,12 +54,13 @@ LAMBDA_MAX = 4.0
 DEADRISE_MAX_DEG = 30.0
 
 #: Default trim range for the onset band [deg]. No measured surfboard trim angle while
-#: planing has been published (a gap noted in docs/physics.md). The low end, 4 deg, is the
-#: trim near which planing hulls reach their least resistance (Savitsky 1964, discussion
-#: of his resistance examples; from memory); the high end, 10 deg, is a nose-up attitude a
-#: board takes while it climbs onto the plane (common practice, no published source).
-#: Both lie inside Savitsky's 2-15 deg range.
-DEFAULT_TRIM_RANGE_DEG = (4.0, 10.0)
+#: planing has been published (a gap noted in docs/physics.md). Planing hulls run
+#: steepest through the pre-planing "hump", typically at about 5-12 deg, and flatten to
+#: about 2-5 deg once fully planing (Savitsky 1964 and Faltinsen 2005, ch. 9, trim
+#: curves; from memory). Onset lies in the hump, so floatlift takes 6-12 deg, inside
+#: Savitsky's 2-15 deg range (the choice itself is ours: common practice, no published
+#: source for surfboards).
+DEFAULT_TRIM_RANGE_DEG = (6.0, 12.0)
 
 #: Default deadrise [deg]: surfboard bottoms are nearly flat across the planing area
 #: (common practice, no published source).
@@ -357,7 +358,7 @@ def predicted_onset_band_mps(
     density_kg_m3 : float
         Water density [kg/m^3].
     trim_range_deg : (float, float)
-        Trim range [deg]; default (4, 10), see :data:`DEFAULT_TRIM_RANGE_DEG`.
+        Trim range [deg]; default (6, 12), see :data:`DEFAULT_TRIM_RANGE_DEG`.
     deadrise_deg : float
         Deadrise [deg]; default 0.
     dynamic_share_min : float
