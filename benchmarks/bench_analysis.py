@@ -85,13 +85,28 @@ def compare(result, truth: dict, track_start: pd.Timestamp) -> dict:
         "end_err": end_err,
         "catch_err": catch_err,
         "acc": acc,
+        "onsets": sum(r.onset_speed_mps is not None for r in result.rides),
+        "onset_err": [r.onset_speed_mps - truth["rides"][k]["onset_speed_mps"] for k, r in _matched(result, truth, track_start) if r.onset_speed_mps is not None],
         "missed_true": len(truth.get("missed_waves", [])),
         "missed_det": len(result.missed_waves),
         "confusion": pd.crosstab(pd.Series(sec, name="truth"), pd.Series(got, name="analysis")),
     }
 
 
-def run_accuracy(n: int, duration_s: float, verbose: bool = False) -> pd.DataFrame:
+def _matched(result, truth, track_start):
+    """(true index, detected ride) pairs, matched as in :func:`compare`."""
+    used, out = set(), []
+    for k, r in enumerate(truth["rides"]):
+        ts, te = _t(track_start, r["start"]), _t(track_start, r["end"])
+        for j, d in enumerate(result.rides):
+            if j not in used and d.first_ride_s <= te and d.end_s >= ts:
+                used.add(j)
+                out.append((k, d))
+                break
+    return out
+
+
+def run_accuracy(n: int, duration_s: float, verbose: bool = False, settings=None) -> pd.DataFrame:
     rows = []
     modes = ("1hz", "5hz", "smart")
     for seed in range(n):
@@ -99,7 +114,7 @@ def run_accuracy(n: int, duration_s: float, verbose: bool = False) -> pd.DataFra
         reported = (seed // 3) % 2 == 1
         style = "long" if seed % 4 == 3 else "short"
         sim, track = sim_track(seed, sampling, duration_s, reported, style)
-        res = analyse(track)
+        res = analyse(track, settings=settings)
         c = compare(res, sim.truth, track.start)
         c.update(seed=seed, sampling=sampling, reported=reported)
         if verbose:
@@ -134,6 +149,8 @@ def summarise(df: pd.DataFrame) -> pd.DataFrame:
                 "end_mae_s": med_abs("end_err"),
                 "catch_mae_s": med_abs("catch_err"),
                 "state_acc": float(g["acc"].mean()),
+                "onset_found": g["onsets"].sum() / det if det else float("nan"),
+                "onset_mae_mps": med_abs("onset_err"),
                 "missed_true": int(g["missed_true"].sum()),
                 "missed_det": int(g["missed_det"].sum()),
             }

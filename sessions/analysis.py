@@ -35,7 +35,7 @@ from sessions.conditioning import ConditionedTrack, ConditioningSettings, condit
 from sessions.errors import AnalysisError
 from sessions.metrics import SessionMetrics, session_metrics
 from sessions.rides import Ride, RideSettings, clean_ride_labels, extract_rides, find_missed_waves
-from sessions.states import RIDE, STATES, ShoreGeometry, StateModelSettings, estimate_shore, label_states, runs
+from sessions.states import PADDLE, RIDE, STATES, ShoreGeometry, StateModelSettings, estimate_shore, label_states, net_speed, runs
 from sessions.track import Track
 
 #: Version of the analysis method; stored beside results so the library re-analyses
@@ -220,7 +220,8 @@ def analyse(track: Track, *, settings: AnalysisSettings | None = None) -> Sessio
     gv = grid["speed_mps"].to_numpy()
     gt = grid["t_s"].to_numpy()
     shore = estimate_shore(gx, gy, gv, gvx, gvy)
-    labels = label_states(gv, gvx, gvy, gx, gy, shore, s.states, step_s=s.grid_step_s)
+    net = net_speed(gt, gx, gy, grid["piece"].to_numpy(), s.states.net_window_s)
+    labels = label_states(gv, gvx, gvy, gx, gy, shore, s.states, step_s=s.grid_step_s, net_speed_mps=net)
     # the HMM runs over the grid as one chain; cut the chain at long gaps is not needed
     # for decoding quality, but state runs never span a gap (see state_runs)
     cos_shore = shore.cos_shoreward(gvx, gvy) if shore.known else np.zeros(len(gv))
@@ -229,7 +230,10 @@ def analyse(track: Track, *, settings: AnalysisSettings | None = None) -> Sessio
     missed = find_missed_waves(labels, gt, gv, cos_shore, s.rides)
     ride_idx = np.full(len(gt), -1, dtype=np.int32)
     for r in rides:
-        ride_idx[(gt >= r.first_ride_s) & (gt <= r.end_s)] = r.index
+        # the ride begins at its start (onset or take-off): the catch before it is paddling
+        labels[(gt >= r.first_ride_s) & (gt < r.start_s)] = PADDLE
+        labels[(gt >= r.start_s) & (gt <= r.end_s)] = RIDE
+        ride_idx[(gt >= r.start_s) & (gt <= r.end_s)] = r.index
     metrics = session_metrics(track.duration_s, gt, gx, gy, grid["piece"].to_numpy(), labels, rides, missed, s.grid_step_s)
     samples = pd.DataFrame(
         {

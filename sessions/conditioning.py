@@ -57,7 +57,11 @@ class ConditioningSettings:
     spike_speed_mps: float = 45.0  # no surfer, walker or car on a beach road moves faster [m/s]
     pos_sd_m: float = 3.0  # standard deviation of one position fix per axis [m]
     speed_sd_mps: float = 0.25  # standard deviation of a reported (Doppler) speed [m/s]
-    accel_psd: float = 1.5  # white-noise acceleration spectral density [m^2/s^3]
+    accel_psd: float = 0.3  # white-noise acceleration spectral density, slow motion [m^2/s^3]
+    fast_accel_psd: float = 60.0  # the same for fast motion (take-off, turns) [m^2/s^3]
+    fast_pos_sd_m: float = 2.0  # position standard deviation assumed in the fast pass [m]
+    fast_trigger_mps: float = 1.6  # slow-pass speed above which the fast pass is run [m/s]
+    fast_pad_s: float = 8.0  # the fast pass covers this much before and after [s]
     gate_sigma: float = 6.0  # innovation larger than this many sigma: fix skipped
     max_gate_run: int = 5  # after this many skipped fixes in a row the filter re-locks
 
@@ -140,9 +144,11 @@ def condition(track: Track, settings: ConditioningSettings | None = None) -> Con
     ends = np.concatenate((bounds, [n]))
     for a, b in zip(starts, ends):
         spikes = flag_spikes(t_s[a:b], x[a:b], y[a:b], s.spike_speed_mps, s.pos_sd_m)
+        ps = _for_rate(s, t_s[a:b])
         xs, ys, vxs, vys, vsd, gated = kalman_smooth(
-            t_s[a:b], x[a:b], y[a:b], reported[a:b], spikes, s
+            t_s[a:b], x[a:b], y[a:b], reported[a:b], spikes, ps
         )
+        _fast_pass(t_s[a:b], x[a:b], y[a:b], reported[a:b], spikes | gated, ps, xs, ys, vxs, vys, vsd)
         out["x"][a:b], out["y"][a:b] = xs, ys
         out["vx"][a:b], out["vy"][a:b], out["vsd"][a:b] = vxs, vys, vsd
         rejected[a:b] = spikes | gated
@@ -218,6 +224,62 @@ def flag_spikes(t_s, x_m, y_m, max_speed_mps: float, pos_sd_m: float, passes: in
             break
         bad[keep[new]] = True
     return bad
+
+
+def _for_rate(s: ConditioningSettings, t_s) -> ConditioningSettings:
+    """Settings with position noise inflated for fixes faster than one per second.
+
+    GPS position errors are strongly correlated from one fix to the next (they change
+    over tens of seconds), so five fixes a second carry little more information about
+    the position than one. Treating them as independent would make the filter follow
+    the noise; the standard deviations are scaled by ``sqrt(1 s / interval)`` so that
+    the information per second stays that of a 1 Hz track (measurement decorrelation
+    by variance inflation; common practice, no published source).
+    """
+    if len(t_s) < 2:
+        return s
+    dt = float(np.median(np.diff(t_s)))
+    if not (dt > 0) or dt >= 1.0:
+        return s
+    k = math.sqrt(1.0 / dt)
+    return ConditioningSettings(
+        **{**s.__dict__, "pos_sd_m": s.pos_sd_m * k, "fast_pos_sd_m": s.fast_pos_sd_m * k, "speed_sd_mps": s.speed_sd_mps * k}
+    )
+
+
+def _fast_pass(t, x, y, rep, skip, s: ConditioningSettings, xs, ys, vxs, vys, vsd) -> None:
+    """Re-smooth fast stretches with a high process noise and blend them in (in place).
+
+    One process noise cannot serve both a drifting surfer (where it should be low, so
+    GPS noise is not taken for motion) and a take-off or a turn (where the speed changes
+    by metres per second within a second). Stretches where the slow pass exceeds
+    ``fast_trigger_mps``, padded by ``fast_pad_s``, are smoothed again with
+    ``fast_accel_psd``; the result replaces the slow one with a weight rising from 0 at
+    1.5 m/s to 1 at 2.5 m/s of fast-pass speed.
+    """
+    fast = np.hypot(vxs, vys) > s.fast_trigger_mps
+    if not fast.any():
+        return
+    n = len(t)
+    idx = np.flatnonzero(fast)
+    lo = np.searchsorted(t, t[idx] - s.fast_pad_s, side="left")
+    hi = np.searchsorted(t, t[idx] + s.fast_pad_s, side="right")
+    cover = np.zeros(n + 1, dtype=np.int64)
+    np.add.at(cover, lo, 1)
+    np.add.at(cover, hi, -1)
+    inside = np.cumsum(cover[:n]) > 0
+    edges = np.flatnonzero(np.diff(np.concatenate(([0], inside.astype(np.int8), [0]))))
+    fs = ConditioningSettings(**{**s.__dict__, "accel_psd": s.fast_accel_psd, "pos_sd_m": s.fast_pos_sd_m})
+    for a, b in zip(edges[::2], edges[1::2]):
+        if b - a < 3:
+            continue
+        fx, fy, fvx, fvy, fsd, _ = kalman_smooth(t[a:b], x[a:b], y[a:b], rep[a:b], skip[a:b], fs)
+        w = np.clip((np.hypot(fvx, fvy) - 1.5) / 1.0, 0.0, 1.0)
+        xs[a:b] = w * fx + (1 - w) * xs[a:b]
+        ys[a:b] = w * fy + (1 - w) * ys[a:b]
+        vxs[a:b] = w * fvx + (1 - w) * vxs[a:b]
+        vys[a:b] = w * fvy + (1 - w) * vys[a:b]
+        vsd[a:b] = w * fsd + (1 - w) * vsd[a:b]
 
 
 def kalman_smooth(t_s, x_m, y_m, reported_speed_mps, skip, s: ConditioningSettings):

@@ -6,7 +6,10 @@ A ride is a run of ``ride`` labels on the analysis grid that passes plausibility
 * **catch start**: the moment the surfer began paddling into the wave: the last speed
   minimum before the ride within ``catch_max_s``;
 * **start**: the planing onset from :mod:`sessions.onset` when that estimator finds one;
-  otherwise the first riding grid step;
+  otherwise the take-off: the first grid step between the catch start and the end of
+  the take-off after which the speed rises by at least ``takeoff_accel_mps2`` over one
+  grid step (planing acceleration is several times the catch's), or failing that the
+  first riding grid step;
 * **end**: the last riding grid step (kick-out, fall, or speed back to paddling);
 * duration, distance along the smoothed path, peak and mean speed.
 
@@ -38,6 +41,9 @@ class RideSettings:
     max_seaward_cos: float = -0.5  # mean heading more seaward than this: not a ride
     merge_gap_s: float = 2.0  # ride runs separated by at most this are one ride [s]
     catch_max_s: float = 15.0  # catch start searched this far before the ride [s]
+    takeoff_peak_share: float = 0.85  # take-off ends when the speed first reaches this share of the peak
+    takeoff_accel_mps2: float = 1.0  # without an onset: the ride starts at the first such rise [m/s^2]
+    catch_speed_mps: float = 1.6  # the catch starts after the last step at or below this [m/s]
     missed_min_speed_mps: float = 1.6  # shoreward paddle burst reaching this speed [m/s]
     missed_min_cos: float = 0.5  # heading toward shore at least this much (cosine)
     missed_min_s: float = 3.0  # lasting at least this long [s]
@@ -57,7 +63,7 @@ class Ride:
     start_s: float
     end_s: float
     first_ride_s: float  # first grid step labelled ``ride``
-    peak_s: float
+    peak_s: float  # end of the take-off: first fix at takeoff_peak_share of the peak speed
     duration_s: float
     distance_m: float
     peak_speed_mps: float
@@ -119,7 +125,7 @@ def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed:
             continue
         first = float(gt[a])
         end = float(gt[b - 1])
-        catch = catch_start(gt, gv, lab, a, s.catch_max_s, step)
+        catch = catch_start(gt, gv, lab, a, s.catch_max_s, step, s.catch_speed_mps)
         # per-fix samples of the ride
         i0, i1 = np.searchsorted(t, [first, end + 1e-9], side="left")
         i1 = max(i1, i0 + 1)
@@ -128,7 +134,10 @@ def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed:
         if len(seg_v):
             j = int(np.argmax(seg_v))
             peak_speed = float(seg_v[j])
-            peak_s = float(seg_t[j])
+            # the take-off ends at the first fix within reach of the peak (turns make
+            # the ride's speed rise and fall again later)
+            k = int(np.flatnonzero(seg_v >= s.takeoff_peak_share * peak_speed)[0])
+            peak_s = float(seg_t[k])
         else:
             g = a + int(np.argmax(gv[a:b]))
             peak_speed, peak_s = float(gv[g]), float(gt[g])
@@ -144,6 +153,7 @@ def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed:
             peak_speed_mps=peak_speed,
             mean_speed_mps=0.0,
         )
+        ride.start_s = takeoff_by_acceleration(gt, gv, catch, peak_s, first, s.takeoff_accel_mps2)
         if s.use_onset:
             _apply_onset(ride, cond, seed + len(rides))
         k0, k1 = np.searchsorted(t, [ride.start_s - 1e-9, end + 1e-9])
@@ -207,22 +217,44 @@ def find_missed_waves(labels, grid_t_s, speed_mps, cos_shore, s: RideSettings) -
 
 
 # --- pure functions ----------------------------------------------------------------------
-def catch_start(gt, gv, lab, a: int, catch_max_s: float, step: float) -> float:
-    """Start of the paddle into a wave: the last speed minimum before grid index ``a``.
+def catch_start(gt, gv, lab, a: int, catch_max_s: float, step: float, catch_speed_mps: float = 1.6) -> float:
+    """Start of the paddle into a wave, searched back from grid index ``a``.
 
-    Searches back at most ``catch_max_s`` over water states (paddle/wait) on a
-    continuous grid; the catch starts where the speed stopped falling, i.e. at the
-    minimum of the speed in that window closest to the ride.
+    The catch is the stretch where the wave already carries the board but it does not
+    plane yet: the speed climbs from sprint-paddling pace toward the planing onset.
+    Searching back at most ``catch_max_s`` over water states (paddle/wait) on a
+    continuous grid, the catch starts at the last step whose speed is at or below
+    ``catch_speed_mps`` (a hard sprint-paddling pace); if none is found, at the slowest
+    step of that stretch. Common practice, no published source.
     """
     lo = a
     while lo > 0 and gt[a] - gt[lo - 1] <= catch_max_s and lab[lo - 1] in (PADDLE, WAIT) and gt[lo] - gt[lo - 1] <= 1.5 * step:
         lo -= 1
     if lo == a:
         return float(gt[a])
-    seg = gv[lo : a + 1]
-    # last index of the minimum (ties: closest to the ride)
-    j = len(seg) - 1 - int(np.argmin(seg[::-1]))
-    return float(gt[lo + j])
+    seg = gv[lo:a]
+    slow = np.flatnonzero(seg <= catch_speed_mps)
+    if len(slow):
+        return float(gt[lo + slow[-1]])
+    return float(gt[lo + int(np.argmin(seg))])
+
+
+def takeoff_by_acceleration(gt, gv, lo_s: float, hi_s: float, default_s: float, accel_mps2: float) -> float:
+    """First grid time in ``[lo_s, hi_s)`` after which the speed rises at ``accel_mps2`` or more.
+
+    Common practice, no published source: a board in displacement mode gains speed at a
+    few tenths of a m/s^2 while the wave lifts it; once it planes the acceleration
+    jumps to metres per second squared. Returns ``default_s`` when no step qualifies.
+    """
+    t = np.asarray(gt, dtype=float)
+    v = np.asarray(gv, dtype=float)
+    i0, i1 = np.searchsorted(t, [lo_s - 1e-9, hi_s - 1e-9])
+    if i1 - i0 < 1 or i1 >= len(t):
+        return float(default_s)
+    dt = t[i0 + 1 : i1 + 1] - t[i0:i1]
+    rate = (v[i0 + 1 : i1 + 1] - v[i0:i1]) / np.where(dt > 0, dt, np.inf)
+    hit = np.flatnonzero(rate >= accel_mps2)
+    return float(t[i0 + hit[0]]) if len(hit) else float(default_s)
 
 
 def path_length_m(x_m, y_m) -> float:

@@ -71,6 +71,14 @@ class StateModelSettings:
     ride_cos_scale: float = 0.12
     # land/water logistic width across the water's edge [m]
     edge_scale_m: float = 12.0
+    # net speed: straight-line displacement over a centred window / window length
+    net_window_s: float = 16.0
+    wait_net_median_mps: float = 0.22
+    wait_net_log_sd: float = 0.6
+    paddle_net_median_mps: float = 0.9
+    paddle_net_log_sd: float = 0.35
+    ride_net_median_mps: float = 3.5
+    ride_net_log_sd: float = 0.7
 
     def to_dict(self) -> dict:
         return asdict(self)
@@ -112,11 +120,18 @@ class ShoreGeometry:
 # --- pipeline ----------------------------------------------------------------------------
 def label_states(
     speed_mps, vx_mps, vy_mps, x_m, y_m, geometry: ShoreGeometry, settings: StateModelSettings | None = None,
-    step_s: float = 1.0,
+    step_s: float = 1.0, net_speed_mps=None,
 ) -> np.ndarray:
-    """Most probable state sequence (indices into :data:`STATES`) on a regular grid."""
+    """Most probable state sequence (indices into :data:`STATES`) on a regular grid.
+
+    ``net_speed_mps`` (see :func:`net_speed`) adds the displacement over a longer window
+    as a second speed observation; it separates slow paddling from drifting far better
+    than the instantaneous speed, whose noise floor is a few tenths of a m/s.
+    """
     s = settings or StateModelSettings()
     loglik = emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry, s)
+    if net_speed_mps is not None:
+        loglik = loglik + net_speed_loglik(net_speed_mps, s)
     log_a = transition_logprob(s, step_s)
     log_pi = np.log(np.array([0.55, 0.25, 0.15, 0.05]))
     return viterbi(log_pi, log_a, loglik)
@@ -162,7 +177,9 @@ def estimate_shore(x_m, y_m, speed_mps, vx_mps, vy_mps, *, min_offset_m: float =
     if off >= min_offset_m and start_end_gap < 2.0 * off:
         ux, uy = dx / off, dy / off
         d = (x - bx) * ux + (y - by) * uy
-        edge = _water_edge(d, v, off)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            toward = -(np.asarray(vx_mps) * ux + np.asarray(vy_mps) * uy) / np.maximum(v, 1e-9)
+        edge = _water_edge(d, v, toward, off)
         return ShoreGeometry(bx, by, ux, uy, edge, "start_end")
     # fall back: fast motion (rides) runs shoreward
     fast = v > 3.0
@@ -179,17 +196,22 @@ def estimate_shore(x_m, y_m, speed_mps, vx_mps, vy_mps, *, min_offset_m: float =
     return ShoreGeometry(mx, my, 1.0, 0.0, 0.0, "unknown")
 
 
-def _water_edge(d: np.ndarray, v: np.ndarray, offset_m: float) -> float:
-    """Cross-shore distance of the water's edge: the landward end of the in-water area.
+def _water_edge(d: np.ndarray, v: np.ndarray, toward_shore: np.ndarray, offset_m: float) -> float:
+    """Cross-shore distance of the water's edge from the beach point [m].
 
-    The in-water area is taken as the time after the first 10 % and before the last
-    10 % of the session; its 2nd percentile of cross-shore distance, minus a margin,
-    marks the edge (rides finish in the shallows, not on the sand).
+    Common practice, no published source: rides finish in the water, so the edge lies
+    landward of the shallowest point reached at riding speed (``v > 3 m/s`` heading
+    shoreward); the walk from the start point to the water is taken as half that
+    distance, and at most a quarter of the distance to the typical (waiting) position.
+    Without fast motion the edge is put at a fifth of that distance.
     """
-    n = len(d)
-    mid = d[n // 10 : n - n // 10] if n >= 20 else d
-    edge = float(np.percentile(mid, 2.0)) - 10.0
-    return float(min(max(edge, 0.0), 0.6 * offset_m))
+    fast = (v > 3.0) & (toward_shore > 0.3)
+    if int(fast.sum()) >= 3:
+        shallowest = float(np.percentile(d[fast], 1.0))
+        edge = 0.5 * shallowest
+    else:
+        edge = 0.2 * offset_m
+    return float(min(max(edge, 0.0), 0.25 * offset_m))
 
 
 def emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry: ShoreGeometry, s: StateModelSettings) -> np.ndarray:
@@ -232,6 +254,53 @@ def emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry: ShoreGeometry
         out[:, SHORE] += log_land
         for k in (PADDLE, WAIT, RIDE):
             out[:, k] += log_water
+    return out
+
+
+def net_speed(t_s, x_m, y_m, piece, window_s: float) -> np.ndarray:
+    """Straight-line displacement over a centred window divided by its duration [m/s].
+
+    The window is cut at the ends of each gap-free ``piece``. The correlated part of
+    GPS error changes slowly, so over tens of seconds it adds far less apparent speed
+    than it does from fix to fix.
+    """
+    t = np.asarray(t_s, dtype=float)
+    x = np.asarray(x_m, dtype=float)
+    y = np.asarray(y_m, dtype=float)
+    p = np.asarray(piece)
+    n = len(t)
+    out = np.zeros(n)
+    if n < 2:
+        return out
+    half = 0.5 * window_s
+    bounds = np.flatnonzero(np.diff(p)) + 1
+    for a, b in zip(np.concatenate(([0], bounds)), np.concatenate((bounds, [n]))):
+        tt = t[a:b]
+        j0 = np.searchsorted(tt, tt - half, side="left")
+        j1 = np.searchsorted(tt, tt + half, side="right") - 1
+        dt = tt[j1] - tt[j0]
+        d = np.hypot(x[a:b][j1] - x[a:b][j0], y[a:b][j1] - y[a:b][j0])
+        out[a:b] = np.where(dt > 0, d / np.where(dt > 0, dt, 1.0), 0.0)
+    return out
+
+
+def net_speed_loglik(net_speed_mps, s: StateModelSettings) -> np.ndarray:
+    """Log-likelihood of the net speed under each state, shape (n, 4)."""
+    u = np.maximum(np.asarray(net_speed_mps, dtype=float), 0.02)
+    lu = np.log(u)
+
+    def lognorm(median, sd):
+        z = (lu - math.log(median)) / sd
+        return -0.5 * z * z - math.log(sd * math.sqrt(2 * math.pi))
+
+    out = np.empty((len(u), 4))
+    out[:, WAIT] = lognorm(s.wait_net_median_mps, s.wait_net_log_sd)
+    out[:, PADDLE] = lognorm(s.paddle_net_median_mps, s.paddle_net_log_sd)
+    out[:, RIDE] = lognorm(s.ride_net_median_mps, s.ride_net_log_sd)
+    stand = lognorm(s.wait_net_median_mps, s.wait_net_log_sd)
+    walk = lognorm(s.shore_walk_median_mps, 0.35)
+    vehicle = np.where((u > 2.0) & (u < 45.0), -math.log(math.log(45.0 / 2.0)), -30.0)
+    out[:, SHORE] = np.logaddexp(np.logaddexp(math.log(0.5) + stand, math.log(0.4) + walk), math.log(0.1) + vehicle)
     return out
 
 
