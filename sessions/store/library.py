@@ -26,6 +26,8 @@ import sqlalchemy as sa
 from sqlalchemy.orm import Session as OrmSession
 from sqlalchemy.orm import sessionmaker
 
+from sessions import boards as _boards
+from sessions import riders as _riders
 from sessions.errors import (
     AnalysisError,
     BoardSpecError,
@@ -83,7 +85,7 @@ CONDITION_RANGES: dict[str, tuple[float, float]] = {
     "salinity_g_kg": (0.0, 50.0),
     "tide_m": (-15.0, 20.0),
 }
-CONDITION_FIELDS = (*CONDITION_RANGES, "water_preset", "tide_phase")
+CONDITION_FIELDS = (*CONDITION_RANGES, "water_preset", "tide_phase", "note")
 
 _UNSET: Any = object()
 
@@ -229,8 +231,9 @@ class Library:
                     for r in s.scalars(sa.select(Rider).order_by(Rider.name))]
 
     # --- boards ------------------------------------------------------------------------
-    BOARD_FIELDS = ("model", "version", "length_m", "width_m", "thickness_m", "outline", "volume_l",
-                    "planform_area_m2", "mass_kg", "construction", "fins", "note")
+    BOARD_FIELDS = ("model", "version", "length_m", "width_m", "thickness_m", "outline_source",
+                    "outline_stations", "volume_l", "planform_area_m2", "mass_kg", "construction", "fins",
+                    "note")
 
     def add_board(self, name: str, **fields: Any) -> dict:
         """Add a board. Fields (all optional): see :attr:`BOARD_FIELDS` (SI units, litres)."""
@@ -274,6 +277,47 @@ class Library:
                                     .group_by(Session.board_id)).all())
             return [_board_dict(b, counts.get(b.id, 0))
                     for b in s.scalars(sa.select(Board).order_by(Board.name))]
+
+    def add_board_spec(self, board, *, note: str | None = None, replace: bool = False) -> dict:
+        """Add (or with *replace*, overwrite) a board from a :class:`sessions.boards.Board`."""
+        fields = board_fields(board)
+        if note is not None:
+            fields["note"] = note
+        if replace and any(b["name"] == board.name for b in self.boards()):
+            return self.edit_board(board.name, **fields)
+        return self.add_board(board.name, **fields)
+
+    def board_object(self, name: str):
+        """The stored board as a :class:`sessions.boards.Board` (for load figures)."""
+        from sessions.boards import Board as BoardSpec
+        from sessions.boards import Outline
+
+        b = self.board(name)
+        outline = None
+        if b["outline_stations"]:
+            outline = Outline.from_stations(b["outline_stations"], source=b["outline_source"] or "stations")
+        return BoardSpec(name=b["name"], length_m=b["length_m"], width_m=b["width_m"],
+                         thickness_m=b["thickness_m"], volume_l=b["volume_l"], mass_kg=b["mass_kg"],
+                         construction=b["construction"], fins=b["fins"], model=b["model"],
+                         version=b["version"], outline=outline)
+
+    def rider_object(self, name: str, at: dt.datetime | None = None):
+        """The stored rider as a :class:`sessions.riders.Rider`, with the body mass valid at *at*.
+
+        Raises
+        ------
+        RiderSpecError
+            The rider has no recorded body mass.
+        """
+        from sessions.riders import Rider as RiderSpec
+
+        r = self.rider(name)
+        history = [(pd.Timestamp(m["measured_at"]).to_pydatetime(), m["body_mass_kg"]) for m in r["mass_history"]]
+        mass = body_mass_at(history, _aware(at))
+        if math.isnan(mass):
+            raise RiderSpecError(f"rider {name!r} has no body mass recorded (floatlift rider edit NAME --mass ...)")
+        kwargs = {"ability": r["ability"]} if r["ability"] else {}
+        return RiderSpec(name=r["name"], body_mass_kg=mass, gear_mass_kg=r["gear_mass_kg"] or 0.0, **kwargs)
 
     # --- sessions: writing ----------------------------------------------------------------
     def find_sha256(self, sha256: str) -> int | None:
@@ -545,6 +589,20 @@ class Library:
         return rows
 
 
+def board_fields(board) -> dict:
+    """Library fields of a :class:`sessions.boards.Board` (SI; outline as stations)."""
+    outline = board.outline
+    return {
+        "model": board.model, "version": board.version, "length_m": board.length_m,
+        "width_m": board.width_m, "thickness_m": board.thickness_m, "volume_l": board.volume_l,
+        "mass_kg": board.mass_kg, "construction": board.construction, "fins": board.fins,
+        "planform_area_m2": board.planform_area_m2,
+        "outline_source": None if outline is None else outline.source,
+        "outline_stations": None if outline is None else [[float(x), float(w)]
+                                                           for x, w in zip(outline.x_m, outline.width_m)],
+    }
+
+
 # --- track encoding ------------------------------------------------------------------------
 GZIP_MAGIC = b"\x1f\x8b"
 
@@ -691,14 +749,15 @@ def _check_rider_fields(stance, ability, gear_mass_kg, body_mass_kg) -> None:
     if ability is not None and ability not in ABILITY_LEVELS:
         raise RiderSpecError(f"ability {ability!r}: use one of {', '.join(ABILITY_LEVELS)}")
     if gear_mass_kg is not None:
-        _finite_range(gear_mass_kg, 0.0, 50.0, "gear mass [kg]", RiderSpecError)
+        _finite_range(gear_mass_kg, *_riders.GEAR_MASS_RANGE_KG, "gear mass [kg]", RiderSpecError)
     if body_mass_kg is not None:
-        _finite_range(body_mass_kg, 15.0, 250.0, "body mass [kg]", RiderSpecError)
+        _finite_range(body_mass_kg, *_riders.BODY_MASS_RANGE_KG, "body mass [kg]", RiderSpecError)
 
 
-_BOARD_RANGES = {
-    "length_m": (0.5, 6.0), "width_m": (0.2, 1.5), "thickness_m": (0.02, 0.4),
-    "volume_l": (5.0, 400.0), "planform_area_m2": (0.1, 5.0), "mass_kg": (0.5, 40.0),
+_BOARD_RANGES = {  # the ranges of sessions.boards; planform area: common practice, no published source
+    "length_m": _boards.LENGTH_RANGE_M, "width_m": _boards.WIDTH_RANGE_M,
+    "thickness_m": _boards.THICKNESS_RANGE_M, "volume_l": _boards.VOLUME_RANGE_L,
+    "planform_area_m2": (0.1, 5.0), "mass_kg": _boards.BOARD_MASS_RANGE_KG,
 }
 
 
@@ -720,7 +779,9 @@ def _check_conditions(fields: Mapping[str, Any], drop_none: bool = True) -> dict
             if not drop_none:
                 out[key] = None
             continue
-        if key == "water_preset":
+        if key == "note":
+            out[key] = str(value)
+        elif key == "water_preset":
             if value not in WATER_PRESETS:
                 raise LibraryInputError(f"water preset {value!r}: use one of {', '.join(WATER_PRESETS)}")
             out[key] = value

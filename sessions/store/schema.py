@@ -8,7 +8,8 @@ Tables
 ------
 ``riders``          name, stance, ability level, gear mass
 ``rider_masses``    body-mass history of a rider (one row per weighing)
-``boards``          dimensions, outline, volume, mass, construction, fins, model/version
+``boards``          dimensions, outline (stations ``[[x_from_nose_m, width_m], ...]`` and
+                    how they were obtained), volume, mass, construction, fins, model/version
 ``sessions``        one imported track: content hash, the file's bytes compressed
                     (``track_codec``: ``gzip`` = we compressed the file, ``as-is`` = the
                     file was already gzip), analysis JSON and
@@ -30,6 +31,9 @@ import datetime as dt
 import sqlalchemy as sa
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
+from sessions.physics.water import PRESETS as _WATER_PRESETS
+from sessions.riders import ABILITY_LEVELS as _ABILITY_LEVELS
+
 #: Naming convention so that constraint names are identical on SQLite and PostgreSQL
 #: (Alembic needs names to alter constraints later).
 NAMING_CONVENTION = {
@@ -41,8 +45,8 @@ NAMING_CONVENTION = {
 }
 
 STANCES = ("regular", "goofy")
-ABILITY_LEVELS = ("beginner", "intermediate", "advanced", "expert")
-WATER_PRESETS = ("sea", "brackish", "fresh")
+ABILITY_LEVELS = _ABILITY_LEVELS  # from sessions.riders
+WATER_PRESETS = tuple(_WATER_PRESETS)  # from sessions.physics.water
 TIDE_PHASES = ("low", "rising", "high", "falling")
 SCORE_NAMES = ("paddling", "catching", "speed", "control")
 STATE_NAMES = ("shore", "paddle", "wait", "ride")
@@ -119,7 +123,8 @@ class Board(Base):
     length_m: Mapped[float | None] = mapped_column(sa.Float)
     width_m: Mapped[float | None] = mapped_column(sa.Float)
     thickness_m: Mapped[float | None] = mapped_column(sa.Float)
-    outline: Mapped[str | None] = mapped_column(sa.String(60))
+    outline_source: Mapped[str | None] = mapped_column(sa.String(60))
+    outline_stations: Mapped[list | None] = mapped_column(sa.JSON)
     volume_l: Mapped[float | None] = mapped_column(sa.Float)
     planform_area_m2: Mapped[float | None] = mapped_column(sa.Float)
     mass_kg: Mapped[float | None] = mapped_column(sa.Float)
@@ -231,6 +236,7 @@ class Conditions(Base):
     water_preset: Mapped[str | None] = mapped_column(sa.String(16))
     tide_m: Mapped[float | None] = mapped_column(sa.Float)
     tide_phase: Mapped[str | None] = mapped_column(sa.String(16))
+    note: Mapped[str | None] = mapped_column(sa.Text)  # conditions in words ("light offshore")
 
     session: Mapped[Session] = relationship(back_populates="conditions")
 
