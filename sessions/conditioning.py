@@ -62,6 +62,8 @@ class ConditioningSettings:
     fast_pos_sd_m: float = 2.0  # position standard deviation assumed in the fast pass [m]
     fast_trigger_mps: float = 1.6  # slow-pass speed above which the fast pass is run [m/s]
     fast_pad_s: float = 8.0  # the fast pass covers this much before and after [s]
+    lag_window_s: float = 5.0  # window over which the slow pass's lag is judged [s]
+    lag_ratio_min: float = 2.5  # lag this many times the typical scatter: motion, not noise
     gate_sigma: float = 6.0  # innovation larger than this many sigma: fix skipped
     max_gate_run: int = 5  # after this many skipped fixes in a row the filter re-locks
 
@@ -153,6 +155,7 @@ def condition(track: Track, settings: ConditioningSettings | None = None) -> Con
         out["vx"][a:b], out["vy"][a:b], out["vsd"][a:b] = vxs, vys, vsd
         rejected[a:b] = spikes | gated
     speed = np.hypot(out["vx"], out["vy"])
+    _fuse_reported(speed, out, reported, s)
     heading = np.degrees(np.arctan2(out["vx"], out["vy"])) % 360.0
     accel = along_track_rate(t_s, speed, piece)
     return ConditionedTrack(
@@ -226,6 +229,29 @@ def flag_spikes(t_s, x_m, y_m, max_speed_mps: float, pos_sd_m: float, passes: in
     return bad
 
 
+def _fuse_reported(speed, out, reported, s: ConditioningSettings) -> None:
+    """Combine the smoothed speed with the device's speed by inverse variance (in place).
+
+    Inside the filter a reported speed is weak wherever the direction of travel is
+    uncertain (the velocity measurement is built along the predicted heading). The
+    speed itself does not depend on the heading, so the two speed estimates are fused
+    afterwards, ``v = (v_s / var_s + v_r / var_r) / (1 / var_s + 1 / var_r)``, and the
+    velocity is rescaled to that speed. The filter's weak use of the same reading is
+    ignored (a small double count).
+    """
+    have = np.isfinite(reported)
+    if not have.any():
+        return
+    var_s = np.maximum(out["vsd"][have] ** 2, 1e-6)
+    var_r = s.speed_sd_mps**2
+    fused = (speed[have] / var_s + reported[have] / var_r) / (1.0 / var_s + 1.0 / var_r)
+    scale = np.where(speed[have] > 1e-6, fused / np.maximum(speed[have], 1e-6), 1.0)
+    out["vx"][have] *= scale
+    out["vy"][have] *= scale
+    out["vsd"][have] = np.sqrt(1.0 / (1.0 / var_s + 1.0 / var_r))
+    speed[have] = np.where(speed[have] > 1e-6, fused, speed[have])
+
+
 def _for_rate(s: ConditioningSettings, t_s) -> ConditioningSettings:
     """Settings with position noise inflated for fixes faster than one per second.
 
@@ -253,14 +279,30 @@ def _fast_pass(t, x, y, rep, skip, s: ConditioningSettings, xs, ys, vxs, vys, vs
     One process noise cannot serve both a drifting surfer (where it should be low, so
     GPS noise is not taken for motion) and a take-off or a turn (where the speed changes
     by metres per second within a second). Stretches where the slow pass exceeds
-    ``fast_trigger_mps``, padded by ``fast_pad_s``, are smoothed again with
+    ``fast_trigger_mps`` and lags behind the fixes (their mean squared distance from the
+    slow path over ``lag_window_s`` is ``lag_ratio_min`` times its typical level, so the
+    misfit is motion the slow model cannot follow, not noise), padded by ``fast_pad_s``,
+    are smoothed again with
     ``fast_accel_psd``; the result replaces the slow one with a weight rising from 0 at
     1.5 m/s to 1 at 2.5 m/s of fast-pass speed.
     """
-    fast = np.hypot(vxs, vys) > s.fast_trigger_mps
+    n = len(t)
+    # lag of the slow pass: squared distance of the fixes from the slow path, averaged
+    # over a few seconds and compared with its typical (median) level over the piece
+    ok = ~np.asarray(skip, dtype=bool)
+    if ok.sum() < 10:
+        return
+    res2 = np.where(ok, (x - xs) ** 2 + (y - ys) ** 2, np.nan)
+    typical = float(np.nanmedian(res2)) / (2.0 * math.log(2.0))  # per-axis variance, chi2(2) median
+    lo_w = np.searchsorted(t, t - s.lag_window_s / 2, side="left")
+    hi_w = np.searchsorted(t, t + s.lag_window_s / 2, side="right")
+    csum = np.concatenate(([0.0], np.cumsum(np.nan_to_num(res2))))
+    ccount = np.concatenate(([0], np.cumsum(ok)))
+    cnt = np.maximum(ccount[hi_w] - ccount[lo_w], 1)
+    lag_ratio = (csum[hi_w] - csum[lo_w]) / cnt / (2.0 * max(typical, 1e-6))
+    fast = (np.hypot(vxs, vys) > s.fast_trigger_mps) & (lag_ratio > s.lag_ratio_min)
     if not fast.any():
         return
-    n = len(t)
     idx = np.flatnonzero(fast)
     lo = np.searchsorted(t, t[idx] - s.fast_pad_s, side="left")
     hi = np.searchsorted(t, t[idx] + s.fast_pad_s, side="right")

@@ -44,9 +44,12 @@ class RideSettings:
     takeoff_peak_share: float = 0.85  # take-off ends when the speed first reaches this share of the peak
     takeoff_accel_mps2: float = 1.0  # without an onset: the ride starts at the first such rise [m/s^2]
     catch_speed_mps: float = 1.6  # the catch starts after the last step at or below this [m/s]
-    missed_min_speed_mps: float = 1.6  # shoreward paddle burst reaching this speed [m/s]
+    missed_move_mps: float = 0.5  # a burst moves at least this fast [m/s]
+    missed_min_speed_mps: float = 0.85  # and reaches this smoothed speed [m/s]
     missed_min_cos: float = 0.5  # heading toward shore at least this much (cosine)
-    missed_min_s: float = 3.0  # lasting at least this long [s]
+    missed_min_s: float = 4.0  # lasting at least [s]
+    missed_max_s: float = 20.0  # and at most this long (longer: paddling in) [s]
+    missed_from_mps: float = 0.6  # starting from this speed or slower [m/s]
     missed_clear_s: float = 10.0  # and not within this of a ride [s]
     use_onset: bool = True  # call the planing-onset estimator when it is installed
 
@@ -195,18 +198,34 @@ def _apply_onset(ride: Ride, cond, seed: int) -> None:
         ride.start_s = ride.onset_time_s
 
 
-def find_missed_waves(labels, grid_t_s, speed_mps, cos_shore, s: RideSettings) -> list[tuple[float, float]]:
-    """Bursts of fast shoreward paddling that did not become a ride: ``(start_s, end_s)``."""
+def find_missed_waves(labels, grid_t_s, speed_mps, cos_shore, s: RideSettings, x_m=None, y_m=None, seaward=None) -> list[tuple[float, float]]:
+    """Short bursts of shoreward paddling that did not become a ride: ``(start_s, end_s)``.
+
+    A burst is a run of grid steps in the water heading shoreward (cosine at least
+    ``missed_min_cos``) at ``missed_move_mps`` or more, that lasts ``missed_min_s`` to
+    ``missed_max_s`` (longer runs are paddling in), reaches ``missed_min_speed_mps``,
+    starts from near standstill (``missed_from_mps`` within the 6 s before) and lies at
+    least ``missed_clear_s`` from any ride. Common practice, no published source: a
+    surfer sitting in the line-up turns and sprints for a wave for a few seconds.
+    """
     lab = np.asarray(labels)
     t = np.asarray(grid_t_s, dtype=float)
     v = np.asarray(speed_mps, dtype=float)
     c = np.asarray(cos_shore, dtype=float)
     step = float(np.median(np.diff(t))) if len(t) > 1 else 1.0
-    burst = (lab != RIDE) & (lab != SHORE) & (v >= s.missed_min_speed_mps) & (c >= s.missed_min_cos)
+    moving = (lab != RIDE) & (lab != SHORE) & (v >= s.missed_move_mps) & (c >= s.missed_min_cos)
     ride_t = t[lab == RIDE]
     out = []
-    for val, a, b in runs(burst.astype(np.int8)):
-        if val != 1 or (b - a) * step < s.missed_min_s:
+    for val, a, b in runs(moving.astype(np.int8)):
+        if val != 1:
+            continue
+        dur = t[b - 1] - t[a] + step
+        if dur < s.missed_min_s or dur > s.missed_max_s or float(np.max(v[a:b])) < s.missed_min_speed_mps:
+            continue
+        if np.any(np.diff(t[a:b]) > 1.5 * step):
+            continue
+        before = (t >= t[a] - 6.0) & (t < t[a])
+        if not before.any() or float(np.min(v[before])) > s.missed_from_mps:
             continue
         if len(ride_t):
             near = np.searchsorted(ride_t, [t[a] - s.missed_clear_s, t[b - 1] + s.missed_clear_s])
