@@ -117,7 +117,8 @@ class SimConfig:
     paddle_speed_mps: float | None = None  # drawn 0.9-1.2 m/s
     gps_sigma_m: float | None = None  # correlated error, drawn 1.5-5 m
     gps_tau_s: float = 40.0  # its time constant
-    gps_white_m: float = 0.8  # white error per fix and axis
+    gps_smoothing_s: float = 3.0  # receiver filter time constant (0: none)
+    gps_white_m: float = 0.1  # white error per fix and axis
     outlier_rate: float = 1.0 / 2000.0  # per fix
     dropouts: bool = True
     speed_noise_mps: float = 0.2
@@ -142,6 +143,7 @@ class SimConfig:
             ("catch_rate", self.catch_rate, 0.05, 1.0),
             ("gps_tau_s", self.gps_tau_s, 1.0, 600.0),
             ("gps_white_m", self.gps_white_m, 0.0, 20.0),
+            ("gps_smoothing_s", self.gps_smoothing_s, 0.0, 60.0),
             ("outlier_rate", self.outlier_rate, 0.0, 0.05),
             ("speed_noise_mps", self.speed_noise_mps, 0.0, 2.0),
             ("origin_lat", self.origin_lat, -80.0, 80.0),
@@ -622,6 +624,7 @@ def _observe(cfg: SimConfig, scene: _Scene, motion: dict, rng: np.random.Generat
     e0 = rng.standard_normal(2) * scene.gps_sigma_m
     ex = lfilter([gain], [1, -a], rng.standard_normal(n), zi=[a * e0[0]])[0]
     ey = lfilter([gain], [1, -a], rng.standard_normal(n), zi=[a * e0[1]])[0]
+    ex, ey = _receiver_smoothing(ex, cfg), _receiver_smoothing(ey, cfg)
 
     keep = np.ones(n, dtype=bool)
     if cfg.dropouts:
@@ -677,6 +680,22 @@ def _observe(cfg: SimConfig, scene: _Scene, motion: dict, rng: np.random.Generat
         }
     )
     return df[list(COLUMNS)]
+
+
+def _receiver_smoothing(err: np.ndarray, cfg: SimConfig) -> np.ndarray:
+    """Pass a Gauss-Markov error through the receiver's first-order navigation filter.
+
+    A receiver's position filter keeps the wander of the error but removes most of its
+    second-to-second jitter. The result is rescaled to keep the standard deviation
+    ``gps_sigma_m``: a first-order filter with time constant ``tf`` lowers the variance
+    of a Gauss-Markov process with time constant ``tau`` by ``tau / (tau + tf)``.
+    """
+    tf = cfg.gps_smoothing_s
+    if tf <= 0:
+        return err
+    b = math.exp(-DT_S / tf)
+    out = lfilter([1 - b], [1, -b], err, zi=[b * err[0]])[0]
+    return out * math.sqrt((cfg.gps_tau_s + tf) / cfg.gps_tau_s)
 
 
 def _smart_schedule(speed: np.ndarray, rng: np.random.Generator) -> np.ndarray:

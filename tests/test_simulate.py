@@ -294,3 +294,30 @@ def test_cli_rejects_bad_input(tmp_path, capsys):
     assert cli.main(["simulate", str(tmp_path / "x.gpx"), "--wave-face", "-2"]) == 2
     assert "wave_face_m" in capsys.readouterr().err
     assert cli.main(["simulate", str(tmp_path / "nowhere" / "x.gpx")]) == 2
+
+
+def _error_en(sm):
+    from sessions.geodesy import LocalFrame
+
+    cfg = sm.config
+    lat, lon = local_to_latlon(cfg, sm.true_motion["x_m"].to_numpy(), sm.true_motion["y_m"].to_numpy())
+    t_idx = np.round((sm.points["time"] - sm.points["time"].iloc[0]).dt.total_seconds().to_numpy() / DT_S).astype(int)
+    frame = LocalFrame(cfg.origin_lat, cfg.origin_lon)
+    e_obs, n_obs = frame.to_local(sm.points["lat"].to_numpy(), sm.points["lon"].to_numpy())
+    e_true, n_true = frame.to_local(lat[t_idx], lon[t_idx])
+    return e_obs - e_true, n_obs - n_true
+
+
+def test_receiver_filter_keeps_sigma_and_removes_jitter():
+    base = dict(seed=21, duration_s=5400, gps_sigma_m=3.0, gps_white_m=0.0, outlier_rate=0.0, dropouts=False)
+    smooth = _error_en(simulate_session(SimConfig(**base)))
+    raw = _error_en(simulate_session(SimConfig(**base, gps_smoothing_s=0.0)))
+    for err in (*smooth, *raw):
+        # one realisation of ~135 correlation times: its SD is within about 25 % of sigma
+        assert 0.7 * 3.0 < float(np.std(err)) < 1.3 * 3.0
+    # first-order Gauss-Markov: 1-s increments have SD sigma*sqrt(2(1-exp(-1/tau)))
+    # = 3*sqrt(2(1-exp(-1/40))) = 0.667 m; the receiver filter removes most of that
+    inc_raw = float(np.std(np.diff(raw[0])))
+    inc_smooth = float(np.std(np.diff(smooth[0])))
+    assert inc_raw == pytest.approx(3.0 * math.sqrt(2 * (1 - math.exp(-1 / 40.0))), rel=0.1)
+    assert inc_smooth < 0.5 * inc_raw
