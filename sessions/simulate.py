@@ -134,7 +134,7 @@ class SimConfig:
         if self.style not in STYLES:
             raise bad(f"style={self.style!r} is not one of {', '.join(STYLES)}")
         checks = [
-            ("duration_s", self.duration_s, 900.0, 6 * 3600.0),
+            ("duration_s", self.duration_s, 300.0, 6 * 3600.0),
             ("board_onset_mps", self.board_onset_mps, 1.5, 6.0),
             ("wave_face_m", self.wave_face_m, 0.3, 4.0),
             ("wave_period_s", self.wave_period_s, 4.0, 25.0),

@@ -292,7 +292,9 @@ def test_cli_rejects_bad_input(tmp_path, capsys):
     assert cli.main(["simulate", str(tmp_path / "x.txt")]) == 2
     assert "must end in .gpx" in capsys.readouterr().err
     assert cli.main(["simulate", str(tmp_path / "x.gpx"), "--wave-face", "-2"]) == 2
-    assert "wave_face_m" in capsys.readouterr().err
+    assert "--wave-face -2 is outside 0.3 to 4" in capsys.readouterr().err
+    assert cli.main(["simulate", str(tmp_path / "x.gpx"), "--duration-min", "nan"]) == 2
+    assert "--duration-min nan is outside" in capsys.readouterr().err
     assert cli.main(["simulate", str(tmp_path / "nowhere" / "x.gpx")]) == 2
 
 

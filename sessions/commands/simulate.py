@@ -43,6 +43,13 @@ def run(args: argparse.Namespace) -> int:
         raise SimulationError(f"{out.name}: the output name must end in .gpx or .gpx.gz")
     if not out.parent.is_dir():
         raise SimulationError(f"{out.name}: the folder to write into does not exist")
+    for option, value, lo, hi in (
+        ("--duration-min", args.duration_min, 5.0, 360.0),
+        ("--onset-speed", args.onset_speed, 1.5, 6.0),
+        ("--wave-face", args.wave_face, 0.3, 4.0),
+    ):
+        if not lo <= value <= hi:  # also rejects nan
+            raise SimulationError(f"{option} {value:g} is outside {lo:g} to {hi:g}")
     config = SimConfig(
         seed=args.seed,
         sampling=args.sampling,
