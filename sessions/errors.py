@@ -91,6 +91,10 @@ class LibraryInputError(FloatliftError, ValueError):
     """A value given to the session library (conditions, scores, names) is malformed or out of range."""
 
 
+class ReportError(FloatliftError, OSError):
+    """A report folder or file cannot be created or written."""
+
+
 class ModelValidityWarning(UserWarning):
     """A physical model is used outside its published range of validity."""
 

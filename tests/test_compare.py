@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 import pytest
 from scipy import optimize, stats
-from test_compare_synth import Truth, make_library
+from test_compare_synth import BOARDS, Truth, make_library
 
 from sessions import compare as cmp
 from sessions.errors import AnalysisError, NotFoundError
@@ -199,8 +199,8 @@ def test_built_in_lower_onset_is_found_and_named():
     onset = next(d for d in c.differences if d.metric == "onset_speed_mps")
     # true difference: board effect plus the load term of the different planform areas
     truth = Truth()
-    load_a = (78 + 3 + 2.8) * G_N / 0.330
-    load_b = (78 + 3 + 2.8) * G_N / 0.345
+    load_a = (78 + 3 + BOARDS[A][2]) * G_N / BOARDS[A][1]
+    load_b = (78 + 3 + BOARDS[B][2]) * G_N / BOARDS[B][1]
     true_diff = -0.45 + truth.slope_mps_per_npm2 * (load_b - load_a)
     assert onset.verdict == cmp.VERDICT_LOWER
     assert onset.ci[0] <= true_diff <= onset.ci[1]
@@ -273,7 +273,8 @@ def test_load_fit_is_skipped_with_too_few_load_points():
 def test_load_terms_follow_their_definitions():
     rides, _ = make_library({(A, "Marlo"): 1}, seed=1)
     r = cmp.add_load_terms(rides).iloc[0]
-    assert r.planform_loading_npm2 == pytest.approx((78 + 3 + 2.8) * 9.80665 / 0.330)
+    # planform loading = (body + gear + board mass) * g / area; litres per kg = volume / body mass
+    assert r.planform_loading_npm2 == pytest.approx((78 + 3 + 2.8) * 9.80665 / 0.62)
     assert r.litres_per_kg == pytest.approx(30.0 / 78)
     nan_mass = cmp.add_load_terms(rides.assign(board_mass_kg=np.nan)).iloc[0]
     assert math.isnan(nan_mass.planform_loading_npm2)

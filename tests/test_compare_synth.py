@@ -1,7 +1,7 @@
 """Synthetic session libraries with a known, built-in board effect (no tests here).
 
 Invented scenario: riders of a made-up beach ("Gullrock Point") test boards named after
-local birds. Onset speed of a ride = base + slope * (planform loading - 600 N/m^2) +
+local birds. Onset speed of a ride = base + slope * (planform loading - 1300 N/m^2) +
 board effect + session effect (day-to-day) + ride noise, so the true difference in
 median onset between two boards with equal loading is exactly the difference of their
 board effects (the distributions are shifted copies of each other).
@@ -19,11 +19,11 @@ from sessions.units import G_N
 
 #: Invented boards: volume [L], planform area [m^2], board mass [kg], model, version.
 BOARDS = {
-    "Tern 6'0": (30.0, 0.330, 2.8, "Tern", "v1"),
-    "Tern 6'0 v2": (30.5, 0.345, 2.8, "Tern", "v2"),
-    "Petrel 6'4": (36.0, 0.375, 3.1, "Petrel", "v1"),
-    "Skua 5'10": (27.0, 0.300, 2.6, "Skua", "v1"),
-    "Gannet 7'2": (48.0, 0.450, 3.6, "Gannet", "v1"),
+    "Tern 6'0": (30.0, 0.62, 2.8, "Tern", "v1"),
+    "Tern 6'0 v2": (30.5, 0.64, 2.8, "Tern", "v2"),
+    "Petrel 6'4": (36.0, 0.70, 3.1, "Petrel", "v1"),
+    "Skua 5'10": (27.0, 0.58, 2.6, "Skua", "v1"),
+    "Gannet 7'2": (48.0, 0.86, 3.6, "Gannet", "v1"),
 }
 #: Invented riders: body mass [kg], gear mass [kg].
 RIDERS = {"Ines": (62.0, 2.0), "Marlo": (78.0, 3.0), "Ottilie": (70.0, 2.5), "Bram": (88.0, 3.5)}
@@ -68,7 +68,7 @@ def make_library(
             sess_eff = rng.normal(0.0, truth.session_sd_mps)
             n = int(rides_per_session) if fixed_rides else max(2, int(rng.poisson(rides_per_session)))
             onset = (
-                truth.base_mps + truth.slope_mps_per_npm2 * (loading - 600.0)
+                truth.base_mps + truth.slope_mps_per_npm2 * (loading - 1300.0)
                 + truth.wave_mps_per_m * (wave - 1.5) + board_effect_mps.get(board, 0.0)
                 + sess_eff + rng.normal(0.0, truth.ride_sd_mps, n)
             )
