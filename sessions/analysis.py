@@ -34,7 +34,7 @@ import pandas as pd
 from sessions.conditioning import ConditionedTrack, ConditioningSettings, condition, resample_uniform
 from sessions.errors import AnalysisError
 from sessions.metrics import SessionMetrics, session_metrics
-from sessions.rides import Ride, RideSettings, clean_ride_labels, extract_rides, find_missed_waves
+from sessions.rides import Ride, RideSettings, clean_ride_labels, extract_rides, find_missed_waves, reject_scattered_rides
 from sessions.states import PADDLE, RIDE, STATES, ShoreGeometry, StateModelSettings, estimate_shore, label_states, net_speed, runs
 from sessions.track import Track
 
@@ -226,6 +226,7 @@ def analyse(track: Track, *, settings: AnalysisSettings | None = None) -> Sessio
     # for decoding quality, but state runs never span a gap (see state_runs)
     cos_shore = shore.cos_shoreward(gvx, gvy) if shore.known else np.zeros(len(gv))
     labels = clean_ride_labels(labels, gt, gv, cos_shore, s.rides)
+    labels = reject_scattered_rides(labels, gx, gy, s.rides)
     rides = extract_rides(labels, gt, gv, cond, s.rides, seed=s.onset_seed)
     missed = find_missed_waves(labels, gt, gv, cos_shore, s.rides)
     ride_idx = np.full(len(gt), -1, dtype=np.int32)

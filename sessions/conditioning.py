@@ -150,7 +150,7 @@ def condition(track: Track, settings: ConditioningSettings | None = None) -> Con
         xs, ys, vxs, vys, vsd, gated = kalman_smooth(
             t_s[a:b], x[a:b], y[a:b], reported[a:b], spikes, ps
         )
-        _fast_pass(t_s[a:b], x[a:b], y[a:b], reported[a:b], spikes | gated, ps, xs, ys, vxs, vys, vsd)
+        _fast_pass(t_s[a:b], x[a:b], y[a:b], reported[a:b], spikes, ps, xs, ys, vxs, vys, vsd)
         out["x"][a:b], out["y"][a:b] = xs, ys
         out["vx"][a:b], out["vy"][a:b], out["vsd"][a:b] = vxs, vys, vsd
         rejected[a:b] = spikes | gated
@@ -188,13 +188,21 @@ def split_on_gaps(t_s: np.ndarray, split_gap_s: float) -> np.ndarray:
     return np.cumsum(cuts).astype(np.int32)
 
 
-def flag_spikes(t_s, x_m, y_m, max_speed_mps: float, pos_sd_m: float, passes: int = 3) -> np.ndarray:
-    """Mark fixes that jump impossibly far from both neighbours.
+def flag_spikes(t_s, x_m, y_m, max_speed_mps: float, pos_sd_m: float, passes: int = 3,
+                spike_dev_m: float = 25.0, max_accel_mps2: float = 10.0) -> np.ndarray:
+    """Mark fixes that jump impossibly far off the path of their neighbours.
 
-    A fix is a spike when it is farther than ``max_speed_mps * dt + 4 pos_sd_m`` from
-    its previous and its next kept fix while those two are within that bound of each
-    other. Repeated ``passes`` times so that short bursts of spikes go too. The first
-    and last fix are judged against their one neighbour pair (two fixes ahead/behind).
+    A fix is a spike when either
+
+    * it lies farther than ``max_speed_mps * dt + 4 pos_sd_m`` from both its previous
+      and its next kept fix while those two are within that bound of each other (an
+      impossible speed), or
+    * it lies farther than ``spike_dev_m + max_accel_mps2 * dt^2 / 2`` from the point
+      interpolated in time between its neighbours (an impossible sideways
+      acceleration; ``dt`` the longer of the two intervals).
+
+    Repeated ``passes`` times so that short bursts of spikes go too. The first and last
+    fix are judged against the next (previous) two fixes by the speed test.
     """
     t = np.asarray(t_s, dtype=float)
     x = np.asarray(x_m, dtype=float)
@@ -215,6 +223,18 @@ def flag_spikes(t_s, x_m, y_m, max_speed_mps: float, pos_sd_m: float, passes: in
 
         mid = np.arange(1, len(keep) - 1)
         spike = too_far(mid, mid - 1) & too_far(mid, mid + 1) & ~too_far(mid - 1, mid + 1)
+        # deviation from the neighbours' path, interpolated in time
+        span = tk[mid + 1] - tk[mid - 1]
+        w = np.where(span > 0, (tk[mid] - tk[mid - 1]) / np.where(span > 0, span, 1.0), 0.5)
+        ix = xk[mid - 1] + w * (xk[mid + 1] - xk[mid - 1])
+        iy = yk[mid - 1] + w * (yk[mid + 1] - yk[mid - 1])
+        dev = np.hypot(xk[mid] - ix, yk[mid] - iy)
+        dt = np.maximum(tk[mid] - tk[mid - 1], tk[mid + 1] - tk[mid])
+        # a spike also drags its neighbours' interpolation off; only the local maximum
+        # of the deviation is the spike
+        dev_prev = np.concatenate(([0.0], dev[:-1]))
+        dev_next = np.concatenate((dev[1:], [0.0]))
+        spike |= (dev > spike_dev_m + 0.5 * max_accel_mps2 * dt * dt) & (dev >= dev_prev) & (dev >= dev_next)
         new = np.zeros(len(keep), dtype=bool)
         new[mid] = spike
         # end points: compare with the next two (or previous two) fixes

@@ -35,7 +35,8 @@ class RideSettings:
     """Tunables of ride extraction (SI)."""
 
     min_ride_s: float = 3.0  # shorter ride runs are noise [s]
-    max_ride_s: float = 120.0  # longer "rides" are land travel [s]
+    max_ride_s: float = 75.0  # longer "rides" are land travel [s]
+    max_takeoff_spread_m: float = 300.0  # take-offs farther apart than this: land travel [m]
     min_peak_speed_mps: float = 2.5  # a ride must reach this speed [m/s]
     max_ride_speed_mps: float = 16.0  # faster is a vehicle or a GPS fault [m/s]
     max_seaward_cos: float = -0.5  # mean heading more seaward than this: not a ride
@@ -110,6 +111,43 @@ def clean_ride_labels(labels: np.ndarray, grid_t_s, speed_mps, cos_shore, s: Rid
     rr = runs(lab)
     for k, (val, a, b) in enumerate(rr):
         if val == RIDE and k > 0 and rr[k - 1][0] == SHORE and t[a] - t[a - 1] <= step * 1.5:
+            lab[a:b] = SHORE
+    return lab
+
+
+def reject_scattered_rides(labels, grid_x_m, grid_y_m, s: RideSettings) -> np.ndarray:
+    """Relabel as ``shore`` all rides of a track whose take-offs are scattered.
+
+    Surfers take off where the waves break and paddle back there after each ride, so
+    the take-off points of a session cluster within a few hundred metres (common
+    practice, no published source). Speed bursts on a walk, a bicycle or in a car
+    start anywhere along the way. The spread is the median distance of the take-offs
+    from their median point; with fewer than three rides, the distance of each
+    take-off from the median position of the waiting time is used instead.
+    """
+    lab = np.asarray(labels).copy()
+    x = np.asarray(grid_x_m, dtype=float)
+    y = np.asarray(grid_y_m, dtype=float)
+    ride_runs = [(a, b) for val, a, b in runs(lab) if val == RIDE]
+    if not ride_runs:
+        return lab
+    tx = np.array([x[a] for a, _ in ride_runs])
+    ty = np.array([y[a] for a, _ in ride_runs])
+    if len(ride_runs) >= 3:
+        cx, cy = float(np.median(tx)), float(np.median(ty))
+        spread = float(np.median(np.hypot(tx - cx, ty - cy)))
+        if spread > s.max_takeoff_spread_m:
+            for a, b in ride_runs:
+                lab[a:b] = SHORE
+        return lab
+    waiting = lab == WAIT
+    if not waiting.any():
+        for a, b in ride_runs:
+            lab[a:b] = SHORE
+        return lab
+    cx, cy = float(np.median(x[waiting])), float(np.median(y[waiting]))
+    for (a, b), px, py in zip(ride_runs, tx, ty):
+        if np.hypot(px - cx, py - cy) > s.max_takeoff_spread_m:
             lab[a:b] = SHORE
     return lab
 
