@@ -303,7 +303,7 @@ class _Scene:
     gps_sigma_m: float
     wave_speed_mps: float
     orbital_mps: float
-    ride_dir: int  # +1 or -1: preferred direction along the shore
+    ride_dir: int  # +1 or -1: favoured direction along the shore
 
 
 def _draw_scene(cfg: SimConfig, rng: np.random.Generator) -> _Scene:
@@ -485,7 +485,9 @@ def _ramp(v0: float, v1: float, n: int) -> np.ndarray:
 def _attempt(line: _Timeline, cfg: SimConfig, scene: _Scene, rng: np.random.Generator) -> bool:
     """Sprint-paddle for a wave; either miss it or catch it and ride. Returns True if ridden."""
     caught = bool(rng.random() < cfg.catch_rate)
-    angle = scene.ride_dir * rng.uniform(0.0, 0.35)  # a little off straight shoreward
+    # peaks break both ways; most rides go the session's favoured way along the shore
+    ride_dir = scene.ride_dir if rng.random() < 0.7 else -scene.ride_dir
+    angle = ride_dir * rng.uniform(0.0, 0.35)  # a little off straight shoreward
     heading = math.pi - angle
     v_sprint = rng.uniform(1.3, 1.8)
     n_up = _steps(rng.uniform(1.0, 2.0))
@@ -526,8 +528,8 @@ def _attempt(line: _Timeline, cfg: SimConfig, scene: _Scene, rng: np.random.Gene
     t_dec = rng.uniform(1.0, 2.0) if fall else rng.uniform(1.5, 3.0)
     median = 13.0 if long_style else 9.0
     dur = float(np.clip(rng.lognormal(math.log(median), 0.55), 3.0, 44.0))
-    t_cruise = max(0.6, dur - t_acc - t_dec)
-    n_acc, n_cru, n_dec = _steps(t_acc), _steps(t_cruise), _steps(t_dec)
+    n_acc, n_dec = _steps(t_acc), _steps(t_dec)
+    n_cru = max(3, _steps(dur) - n_acc - n_dec - 1)  # the ride lasts dur (on the 0.2 s grid)
     period = rng.uniform(6.0, 12.0) if long_style else rng.uniform(2.5, 4.5)
     tc = np.arange(n_cru) * DT_S
     trend = 1.0 - rng.uniform(0.0, 0.15) * tc / max(tc[-1], 1.0)
@@ -553,7 +555,7 @@ def _attempt(line: _Timeline, cfg: SimConfig, scene: _Scene, rng: np.random.Gene
         beta_catch *= 0.6
     # direction vector (-sin beta, dir * cos beta) in (x seaward, y alongshore)
     vx = -speed * np.sin(beta)
-    vy = scene.ride_dir * speed * np.cos(beta)
+    vy = ride_dir * speed * np.cos(beta)
     ride_start = line.add(RIDE, vx, vy)
     ride_end = line.n  # first step after the ride (its speed is back to paddling levels)
     spd = np.hypot(vx, vy)
