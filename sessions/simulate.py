@@ -604,7 +604,8 @@ def _build_motion(cfg: SimConfig, scene: _Scene, line: _Timeline, rng: np.random
     # paddle in, walk up the beach back toward where we came in
     _paddle_to(line, cfg, scene, 0.0, line.y + rng.uniform(-20, 20), rng, duck_dives=False)
     _walk(line, -45.0, entry_y + rng.uniform(-15.0, 15.0), rng)
-    _stand(line, rng.uniform(10.0, 40.0), rng)
+    # stand on the beach until the watch is stopped, at least at the target length
+    _stand(line, max(rng.uniform(10.0, 40.0), cfg.duration_s - line.t_s + DT_S), rng)
 
 
 # ======================================================================================

@@ -96,6 +96,7 @@ def test_truth_document_is_consistent(sim):
     tr = sim.truth
     assert tr["schema"] == TRUTH_SCHEMA and tr["seed"] == 7
     assert tr["config"]["duration_s"] == 3600
+    assert 3600 <= tr["totals"]["duration_s"] <= 3600 + 240  # ends after the last wave
     assert tr["start"].endswith("Z") and tr["end"].endswith("Z")
     start, end = _t(tr["start"]), _t(tr["end"])
     # run-length states tile the session without gaps
