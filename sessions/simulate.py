@@ -49,6 +49,8 @@ STATES = ("shore", "paddle", "wait", "ride")
 SHORE, PADDLE, WAIT, RIDE = range(4)
 
 TRUTH_SCHEMA = "floatlift.truth/1"
+#: Where a session starts and ends: on the beach, this far landward of the water line [m].
+BEACH_START_X_M = -45.0
 SAMPLINGS = ("1hz", "5hz", "smart")
 STYLES = ("short", "long")
 
@@ -194,7 +196,9 @@ class SimulatedSession:
 
     def gpx_bytes(self) -> bytes:
         """The observed track as a GPX 1.1 document."""
-        return write_gpx(self.points, name=self.config.name, decimals=self.config.decimals)
+        return write_gpx(
+            self.points, name=self.config.name, creator="floatlift simulator", decimals=self.config.decimals
+        )
 
     def write(self, path, *, truth_gzip: bool = False) -> tuple[Path, Path]:
         """Write the GPX (gzip-compressed when the name ends in ``.gz``) and the truth.
@@ -334,7 +338,7 @@ class _Timeline:
         self.vy: list[np.ndarray] = []
         self.state: list[np.ndarray] = []
         self.n = 0
-        self.x = -45.0  # start on the beach, landward of the water line
+        self.x = BEACH_START_X_M
         self.y = 0.0
         self.rides: list[dict] = []
         self.missed: list[tuple[int, int]] = []
@@ -363,7 +367,7 @@ class _Timeline:
         vx = np.concatenate(self.vx)
         vy = np.concatenate(self.vy)
         state = np.concatenate(self.state)
-        x = -45.0 + np.concatenate(([0.0], np.cumsum(vx)[:-1])) * DT_S
+        x = BEACH_START_X_M + np.concatenate(([0.0], np.cumsum(vx)[:-1])) * DT_S
         y = np.concatenate(([0.0], np.cumsum(vy)[:-1])) * DT_S
         return {
             "t_s": np.arange(vx.size) * DT_S,
@@ -603,7 +607,7 @@ def _build_motion(cfg: SimConfig, scene: _Scene, line: _Timeline, rng: np.random
         lineup_y += rng.normal(0.0, 3.0)
     # paddle in, walk up the beach back toward where we came in
     _paddle_to(line, cfg, scene, 0.0, line.y + rng.uniform(-20, 20), rng, duck_dives=False)
-    _walk(line, -45.0, entry_y + rng.uniform(-15.0, 15.0), rng)
+    _walk(line, BEACH_START_X_M, entry_y + rng.uniform(-15.0, 15.0), rng)
     # stand on the beach until the watch is stopped, at least at the target length
     _stand(line, max(rng.uniform(10.0, 40.0), cfg.duration_s - line.t_s + DT_S), rng)
 
@@ -641,8 +645,8 @@ def _observe(cfg: SimConfig, scene: _Scene, motion: dict, rng: np.random.Generat
         n_random = rng.poisson(n * DT_S / 3600.0 * 1.5)
         for i in rng.integers(0, n, size=n_random):
             windows.append((int(i), _steps(rng.uniform(5.0, 60.0))))
-        for i0, m in windows:
-            keep[i0 : i0 + m] = False
+        for i0, length in windows:
+            keep[i0 : i0 + length] = False
         keep[0] = keep[-1] = True
     idx = idx[keep[idx]]
     m = idx.size
