@@ -345,7 +345,8 @@ def compare_boards(
         load_fit=fit,
         load_fit_note=fit_note,
         model_rows=model_rows,
-        model_curve=model_curve(sel_rides, onset_model, chosen),
+        model_curve=model_curve(sel_rides, onset_model, chosen,
+                                loading_range=_finite_range(all_rides["planform_loading_npm2"])),
         rides=sel_rides,
         fit_rides=fit_rides,
         sessions=sel_sessions,
@@ -651,20 +652,23 @@ def model_table(rides: pd.DataFrame, onset_model: OnsetModel | None) -> pd.DataF
 
 
 def model_curve(
-    rides: pd.DataFrame, onset_model: OnsetModel | None, boards: Sequence[str], points: int = 25
+    rides: pd.DataFrame, onset_model: OnsetModel | None, boards: Sequence[str], points: int = 25,
+    loading_range: tuple[float, float] | None = None,
 ) -> pd.DataFrame:
     """Model onset band against planform loading for each board, over the observed loads.
 
     The board is held fixed and the rider's body mass is varied so that the loading spans
-    the range seen in ``rides`` (widened by 10 % each side).
+    ``loading_range`` [N/m^2] (default: the range seen in ``rides``), widened by 10 % each
+    side. Points where the model gives no band are NaN.
     """
     cols = ["board", "planform_loading_npm2", "model_lo_mps", "model_hi_mps"]
     if onset_model is None or rides.empty:
         return pd.DataFrame(columns=cols)
-    pl = rides["planform_loading_npm2"].dropna()
-    if pl.empty:
+    if loading_range is None or not all(map(math.isfinite, loading_range)):
+        loading_range = _finite_range(rides["planform_loading_npm2"])
+    if not all(map(math.isfinite, loading_range)):
         return pd.DataFrame(columns=cols)
-    lo_pl, hi_pl = float(pl.min()) * 0.9, float(pl.max()) * 1.1
+    lo_pl, hi_pl = loading_range[0] * 0.9, loading_range[1] * 1.1
     rows = []
     for board in boards:
         grp = rides[rides["board"] == board]
@@ -874,6 +878,12 @@ def _values(frame: pd.DataFrame, metric: str, cluster: str) -> tuple[np.ndarray,
 
 def _n_unique(values) -> int:
     return int(pd.unique(pd.Series(values, dtype=object)).size) if len(values) else 0
+
+
+def _finite_range(series) -> tuple[float, float]:
+    v = pd.to_numeric(pd.Series(series), errors="coerce")
+    v = v[np.isfinite(v)]
+    return (float(v.min()), float(v.max())) if len(v) else (math.nan, math.nan)
 
 
 def _nanmedian(series) -> float:

@@ -112,7 +112,10 @@ def draw_onset_vs_loading(ax, comparison: Comparison) -> None:
         if c.empty or not c["model_lo_mps"].notna().any():
             continue
         ax.fill_between(c["planform_loading_npm2"], c["model_lo_mps"], c["model_hi_mps"], color=colour,
-                        alpha=0.15, lw=0, label=f"model band, {board}")
+                        alpha=0.10, lw=0)
+        for edge in ("model_lo_mps", "model_hi_mps"):
+            ax.plot(c["planform_loading_npm2"], c[edge], color=colour, lw=1.2, ls="--",
+                    label=f"model band, {board}" if edge == "model_lo_mps" else None)
     ax.set_xlabel(LOADING_LABEL)
     ax.set_ylabel(ONSET_LABEL)
     ax.set_title("Onset speed against planform loading")
@@ -189,7 +192,7 @@ def summary_figure(comparison: Comparison) -> Figure:
     t2 = fig.add_axes((0.04, 0.655, 0.92, 0.16))
     t2.set_axis_off()
     _table(t2, DIFF_TABLE_HEADER, difference_table_rows(comparison, SUMMARY_METRICS), fontsize=6.5)
-    t2.set_title("Differences, board B minus board A", fontsize=9, loc="left")
+    t2.set_title("Differences, board B minus board A (lower onset speed = planes earlier)", fontsize=9, loc="left")
 
     bands = strata_lines(comparison)
     if bands:

@@ -31,7 +31,7 @@ RIDERS = {"Ines": (62.0, 2.0), "Marlo": (78.0, 3.0), "Ottilie": (70.0, 2.5), "Br
 
 @dataclass
 class Truth:
-    base_mps: float = 3.2
+    base_mps: float = 3.8
     slope_mps_per_npm2: float = 0.0012
     wave_mps_per_m: float = -0.15
     session_sd_mps: float = 0.15

@@ -206,7 +206,7 @@ def format_comparison(comparison) -> str:
     lines = ["Board comparison - " + cmp.selection_text(comparison), ""]
     lines += columns(cmp.BOARD_TABLE_HEADER, cmp.board_table_rows(comparison))
     lines += ["", "Differences, board B minus board A (median [95 % interval]; p: rank test on sessions; "
-                  "r: rank-biserial on rides)"]
+                  "r: rank-biserial on rides). Lower onset speed = planes earlier."]
     lines += columns(["metric", "A", "B", "B - A [95 % CI]", "p", "r", "verdict"],
                      cmp.difference_table_rows(comparison))
     bands = cmp.strata_lines(comparison)
