@@ -91,3 +91,19 @@ def test_regenerating_gives_the_same_files(tmp_path):
         if rel.name.endswith(".gz"):
             a, b = gzip.decompress(a), gzip.decompress(b)
         assert a == b, rel
+
+
+def test_demo_boards_and_riders_parse(manifest):
+    pytest.importorskip("sessions.boards")
+    pytest.importorskip("sessions.riders")
+    boards = manifest.board_objects()
+    for b in demo_scenario.BOARDS:
+        parsed = boards[b.id]
+        assert parsed.length_m == pytest.approx(b.length_m, abs=1e-9)
+        assert parsed.width_m == pytest.approx(b.width_m, abs=1e-9)
+        assert parsed.volume_l == pytest.approx(b.volume_l)
+        # the parser interpolates the same stations smoothly (PCHIP): within 3 % of the
+        # trapezoid area the scenario used
+        assert parsed.planform_area_m2 == pytest.approx(b.planform_area_m2(), rel=0.03)
+    riders = manifest.rider_objects()
+    assert riders["bram"].total_mass_kg == pytest.approx(98.5)
