@@ -10,6 +10,8 @@ import numpy as np
 import pandas as pd
 import pytest
 from geographiclib.geodesic import Geodesic
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from sessions import cli
 from sessions.errors import SimulationError
@@ -324,3 +326,38 @@ def test_receiver_filter_keeps_sigma_and_removes_jitter():
     inc_smooth = float(np.std(np.diff(smooth[0])))
     assert inc_raw == pytest.approx(3.0 * math.sqrt(2 * (1 - math.exp(-1 / 40.0))), rel=0.1)
     assert inc_smooth < 0.5 * inc_raw
+
+
+# --- invariants over many settings -----------------------------------------------------
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(
+    seed=st.integers(0, 2**31 - 1),
+    sampling=st.sampled_from(["1hz", "5hz", "smart"]),
+    duration_s=st.floats(300.0, 2400.0),
+    onset=st.floats(1.5, 6.0),
+    style=st.sampled_from(["short", "long"]),
+    face=st.floats(0.3, 4.0),
+    period=st.floats(4.0, 25.0),
+)
+def test_truth_invariants_hold_for_any_settings(seed, sampling, duration_s, onset, style, face, period):
+    cfg = SimConfig(seed=seed, sampling=sampling, duration_s=duration_s, board_onset_mps=onset, style=style,
+                    wave_face_m=face, wave_period_s=period, reported_speed=True)  # fmt: skip
+    sm = simulate_session(cfg)
+    pts, tr, m = sm.points, sm.truth, sm.true_motion
+    assert len(pts) >= 2 and pts["time"].is_monotonic_increasing and pts["time"].is_unique
+    assert np.isfinite(pts[["lat", "lon", "speed_mps"]].to_numpy()).all()
+    assert tr["totals"]["duration_s"] >= duration_s - 1e-6
+    assert pts["time"].iloc[0] == _t(tr["start"]) and pts["time"].iloc[-1] <= _t(tr["end"])
+    assert np.isfinite(m["speed_mps"]).all() and m["speed_mps"].max() <= 12.5 + 1e-9
+    runs = tr["states"]
+    for a, b in zip(runs[:-1], runs[1:]):
+        assert a["end"] == b["start"]
+    assert runs[0]["state"] == "shore" and runs[-1]["state"] == "shore"
+    for r in tr["rides"]:
+        assert r["onset_speed_mps"] < r["peak_speed_mps"] <= 12.5
+        assert 3.0 - 1e-9 <= r["duration_s"] <= 44.0 + 1e-9
+        assert _t(r["catch_start"]) < _t(r["start"]) < _t(r["end"])
+    ride_rows = m[m["state"] == STATES.index("ride")]
+    if len(ride_rows):
+        assert ride_rows["x_m"].min() > 0.0  # rides stay in the water
+    assert sum(tr["totals"]["time_in_state_s"].values()) == pytest.approx(tr["totals"]["duration_s"], abs=0.5)
