@@ -113,7 +113,7 @@ class SimConfig:
     seaward_bearing_deg: float = 277.0
     lineup_offshore_m: float | None = None  # drawn 100-300 m
     onset_scatter_mps: float = 0.25
-    mean_wait_s: float = 90.0  # mean wait in the line-up before each attempt
+    mean_wait_s: float = 120.0  # mean wait in the line-up before each attempt
     catch_rate: float = 0.65  # share of attempts that become rides
     current_mps: float | None = None  # drawn 0.02-0.20 m/s
     paddle_speed_mps: float | None = None  # drawn 0.9-1.2 m/s
@@ -590,6 +590,7 @@ def _build_motion(cfg: SimConfig, scene: _Scene, line: _Timeline, rng: np.random
     walk_back_s = 60.0
     lineup_y = entry_y + rng.uniform(-40.0, 40.0)
     _paddle_to(line, cfg, scene, scene.lineup_x_m, lineup_y, rng, duck_dives=True)
+    missed_last = False
     while True:
         reserve = line.x / scene.paddle_speed_mps + walk_back_s + 30.0
         if line.t_s >= cfg.duration_s - reserve:
@@ -600,16 +601,19 @@ def _build_motion(cfg: SimConfig, scene: _Scene, line: _Timeline, rng: np.random
         if math.hypot(line.x - spot_x, line.y - spot_y) > 20.0:
             _paddle_to(line, cfg, scene, spot_x, spot_y, rng, duck_dives=True)
         wait_s = max(5.0, rng.exponential(cfg.mean_wait_s))
+        if missed_last and rng.random() < 0.5:
+            wait_s = rng.uniform(5.0, 20.0)  # waves come in sets: the next one is close
         wait_s = min(wait_s, max(5.0, cfg.duration_s - reserve - line.t_s))
         _wait(line, cfg, scene, wait_s, rng)
-        _attempt(line, cfg, scene, rng)
+        missed_last = not _attempt(line, cfg, scene, rng)
         # drift of the take-off spot along the shore over the session (sand bars move)
         lineup_y += rng.normal(0.0, 3.0)
     # paddle in, walk up the beach back toward where we came in
     _paddle_to(line, cfg, scene, 0.0, line.y + rng.uniform(-20, 20), rng, duck_dives=False)
     _walk(line, BEACH_START_X_M, entry_y + rng.uniform(-15.0, 15.0), rng)
     # stand on the beach until the watch is stopped, at least at the target length
-    _stand(line, max(rng.uniform(10.0, 40.0), cfg.duration_s - line.t_s + DT_S), rng)
+    need_s = (math.ceil((cfg.duration_s - line.t_s) / DT_S - 1e-9) + 1) * DT_S
+    _stand(line, max(rng.uniform(10.0, 40.0), need_s), rng)
 
 
 # ======================================================================================
