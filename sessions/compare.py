@@ -782,7 +782,7 @@ def cluster_median_ci(
 
     res = stats.bootstrap(
         (np.arange(n_clusters),), statistic, n_resamples=rules.n_resamples, vectorized=True,
-        confidence_level=rules.confidence, method="percentile", rng=rng,
+        confidence_level=rules.confidence, method="percentile", rng=rng, batch=_batch(values.size),
     )
     # the widening may reach past the data; a median never lies outside them
     lo = max(float(res.confidence_interval.low), float(sv[0]))
@@ -824,11 +824,21 @@ def cluster_median_difference_ci(
     res = stats.bootstrap(
         (np.arange(ka), np.arange(kb)), statistic, n_resamples=rules.n_resamples,
         vectorized=True, confidence_level=rules.confidence, method="percentile", rng=rng,
+        batch=_batch(max(va.size, vb.size)),
     )
     # a difference of medians never lies outside [min B - max A, max B - min A]
     lo = max(float(res.confidence_interval.low), float(svb[0] - sva[-1]))
     hi = min(float(res.confidence_interval.high), float(svb[-1] - sva[0]))
     return est, lo, hi
+
+
+#: Upper bound on resamples x rides held in memory at once by the pooled median (~16 MB).
+_MAX_CELLS = 2_000_000
+
+
+def _batch(n_values: int) -> int:
+    """Resamples per batch so the (resamples x rides) weight table stays small."""
+    return max(1, _MAX_CELLS // max(n_values, 1))
 
 
 def _rescale_factor(n_clusters: int, rules: Rules) -> float:
@@ -849,8 +859,8 @@ def _pooled_median(sorted_values, sorted_codes, n_clusters, idx) -> np.ndarray:
     rows = flat.shape[0]
     offsets = flat + n_clusters * np.arange(rows)[:, None]
     counts = np.bincount(offsets.ravel(), minlength=rows * n_clusters).reshape(rows, n_clusters)
-    weights = counts[:, sorted_codes]  # (rows, n_values)
-    cum = np.cumsum(weights, axis=1)
+    weights = counts[:, sorted_codes].astype(np.int32)  # (rows, n_values)
+    cum = np.cumsum(weights, axis=1, dtype=np.int32)
     total = cum[:, -1]
     k1, k2 = (total - 1) // 2, total // 2
     i1 = (cum <= k1[:, None]).sum(axis=1)

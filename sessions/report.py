@@ -184,23 +184,39 @@ def summary_figure(comparison: Comparison) -> Figure:
     fig.text(0.05, 0.965, "floatlift - board comparison", fontsize=15, weight="bold", va="top")
     fig.text(0.05, 0.94, "\n".join(textwrap.wrap(selection_text(comparison), 110)), fontsize=8, va="top")
 
-    t1 = fig.add_axes((0.04, 0.855, 0.92, 0.06))
+    row_h = 0.0135  # figure fraction per table row at 6.5-7 pt
+    board_rows = board_table_rows(comparison)
+    top = 0.905
+    h1 = row_h * (len(board_rows) + 1)
+    t1 = fig.add_axes((0.04, top - h1, 0.92, h1))
     t1.set_axis_off()
-    _table(t1, BOARD_TABLE_HEADER, board_table_rows(comparison), fontsize=7)
+    _table(t1, BOARD_TABLE_HEADER, board_rows, fontsize=7)
     t1.set_title("Per board (median [95 % interval])", fontsize=9, loc="left")
 
-    t2 = fig.add_axes((0.04, 0.655, 0.92, 0.16))
+    diff_rows = difference_table_rows(comparison, SUMMARY_METRICS)
+    top = top - h1 - 0.035
+    h2 = row_h * (len(diff_rows) + 1)
+    t2 = fig.add_axes((0.04, top - h2, 0.92, h2))
     t2.set_axis_off()
-    _table(t2, DIFF_TABLE_HEADER, difference_table_rows(comparison, SUMMARY_METRICS), fontsize=6.5)
+    _table(t2, DIFF_TABLE_HEADER, diff_rows, fontsize=6.5)
     t2.set_title("Differences, board B minus board A (lower onset speed = planes earlier)", fontsize=9, loc="left")
+    top = top - h2 - 0.012
 
-    bands = strata_lines(comparison)
-    if bands:
-        fig.text(0.05, 0.635, "Onset by wave face height:\n" + "\n".join(bands[:8]), fontsize=6.5, va="top")
+    lines = [line for line in strata_lines(comparison) if "too few data" not in line]
+    skipped = len(comparison.strata) - len(lines)
+    if skipped:
+        lines.append(f"{skipped} wave band comparison(s): too few data to tell")
+    if lines:
+        fig.text(0.05, top, "Onset by wave face height:\n" + "\n".join(lines), fontsize=6.5, va="top")
+        top -= 0.011 * (len(lines) + 1) + 0.01
 
-    ax1 = fig.add_axes((0.22, 0.385, 0.72, 0.19))
+    # the two figures share what is left above the notes
+    space = top - 0.075
+    h_on = space * min(0.5, 0.28 + 0.05 * len(comparison.boards)) - 0.045
+    ax1 = fig.add_axes((0.22, top - 0.045 - h_on, 0.72, h_on))
     draw_onset_by_board(ax1, comparison)
-    ax2 = fig.add_axes((0.10, 0.085, 0.84, 0.23))
+    h_ld = top - 0.045 - h_on - 0.08 - 0.085
+    ax2 = fig.add_axes((0.10, 0.085, 0.84, h_ld))
     draw_onset_vs_loading(ax2, comparison)
 
     notes = [comparison.caution]
@@ -220,7 +236,7 @@ def _table(ax, header: list[str], rows: list[list[str]], fontsize: float) -> Non
     if not rows:
         ax.text(0, 0.5, "no rows", fontsize=fontsize)
         return
-    table = ax.table(cellText=rows, colLabels=header, loc="upper left", cellLoc="left")
+    table = ax.table(cellText=rows, colLabels=header, bbox=(0, 0, 1, 1), cellLoc="left")
     table.auto_set_font_size(False)
     table.set_fontsize(fontsize)
     table.auto_set_column_width(list(range(len(header))))

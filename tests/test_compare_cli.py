@@ -189,3 +189,11 @@ def test_parse_day_and_board_record():
     board = command.board_from_library({"name": A, "length_m": 1.83, "width_m": 0.49, "volume_l": 30.0})
     assert board.outline is not None and board.outline.length_m == pytest.approx(1.83)
     assert command.board_from_library({"name": A, "volume_l": 30.0}).outline is None
+
+
+def test_library_url_comes_from_the_environment(library_url, capsys, monkeypatch):
+    # no --db: the store's own resolution ($FLOATLIFT_DB) picks the library
+    monkeypatch.setenv("FLOATLIFT_DB", library_url)
+    status, out, err = _run(capsys, "--model", "Tern", "--json")
+    assert status == 0, err
+    assert json.loads(out)["rows"]
