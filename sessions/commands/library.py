@@ -434,8 +434,9 @@ def format_session(d: dict) -> str:
            f"  board     {d['board'] or '-'}"]
     b = d.get("board_detail")
     if b:
-        out[-1] += (f"  ({_fmt(b['volume_l'], '.1f')} L, {_fmt(b['planform_area_m2'], '.3f')} m2"
-                    f"{', model ' + b['model'] if b['model'] else ''}{' v' + b['version'] if b['version'] else ''})")
+        extra = [f"{_fmt(b['volume_l'], '.1f')} L", f"{_fmt(b['planform_area_m2'], '.3f')} m2"]
+        extra += [f"{k} {b[k]}" for k in ("model", "version") if b.get(k)]
+        out[-1] += f"  ({', '.join(extra)})"
     t = d["time_in_state_s"]
     out.append(f"  time      paddle {_hms(t['paddle'])}, wait {_hms(t['wait'])}, ride {_hms(t['ride'])}, "
                f"shore {_hms(t['shore'])}")
@@ -443,9 +444,7 @@ def format_session(d: dict) -> str:
                f"{d['missed_waves']}, peak speed {_fmt(d['peak_speed_mps'], '.1f')} m/s")
     c = d.get("conditions")
     if c:
-        parts = [f"{k.removesuffix('_m').removesuffix('_s').replace('_', ' ')} {v}" for k, v in c.items()
-                 if v is not None]
-        out.append(f"  conditions {', '.join(parts) if parts else '-'}")
+        out.append(f"  conditions {format_conditions(c)}")
     f = d.get("feedback")
     if f:
         scores = ", ".join(f"{k} {v}" for k, v in f.items() if k != "note" and v is not None)
@@ -460,6 +459,29 @@ def format_session(d: dict) -> str:
         out.append(_table(rows, ["ride", "start", "s", "m", "peak m/s", "onset m/s", "onset range"]).rstrip())
     out.append(f"  analysis version {d['analysis_version']}.  {CAUTION}")
     return "\n".join(out) + "\n"
+
+
+def format_conditions(c: dict) -> str:
+    """One line of conditions with units; missing ones are left out."""
+    from sessions.units import mps_to_knots
+
+    parts = []
+    units = (("wave_face_m", "wave face {:.1f} m"), ("period_s", "period {:.0f} s"),
+             ("water_temp_c", "water {:.1f} degC"), ("salinity_g_kg", "salinity {:.1f} g/kg"),
+             ("tide_m", "tide {:.1f} m"))
+    for key, text in units:
+        if c.get(key) is not None:
+            parts.append(text.format(c[key]))
+    if c.get("wind_speed_mps") is not None:
+        parts.append(f"wind {c['wind_speed_mps']:.1f} m/s ({mps_to_knots(c['wind_speed_mps']):.0f} kn)")
+    if c.get("wind_from_deg") is not None:
+        parts.append(f"from {c['wind_from_deg']:.0f} deg")
+    for key in ("water_preset", "tide_phase"):
+        if c.get(key):
+            parts.append(("tide " if key == "tide_phase" else "") + c[key])
+    if c.get("note"):
+        parts.append(c["note"])
+    return ", ".join(parts) if parts else "-"
 
 
 def run_show(args) -> int:

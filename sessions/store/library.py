@@ -24,7 +24,7 @@ from typing import Any
 import pandas as pd
 import sqlalchemy as sa
 from sqlalchemy.orm import Session as OrmSession
-from sqlalchemy.orm import sessionmaker
+from sqlalchemy.orm import selectinload, sessionmaker
 
 from sessions import boards as _boards
 from sessions import riders as _riders
@@ -486,7 +486,8 @@ class Library:
     def sessions(self, *, boards=None, riders=None, date_from=None, date_to=None) -> list[dict]:
         """Short records of the stored sessions (oldest first), filtered like :meth:`sessions_frame`."""
         with self._tx() as s:
-            stmt = sa.select(Session).order_by(Session.start, Session.id)
+            stmt = (sa.select(Session).order_by(Session.start, Session.id)
+                    .options(selectinload(Session.rider), selectinload(Session.board)))
             stmt = self._filter(s, stmt, boards, riders, date_from, date_to)
             return [_session_summary(r) for r in s.scalars(stmt)]
 
