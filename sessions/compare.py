@@ -691,15 +691,23 @@ def model_curve(
 def board_load_model(boards: dict, water: str = "sea") -> OnsetModel:
     """An :data:`OnsetModel` from :func:`sessions.load.load_figures` for the given boards.
 
-    ``boards`` maps a board name to a :class:`sessions.boards.Board`. The band is NaN when
-    the board lacks the figures the model needs or the rider's load is outside the rider
-    ranges or the model's range (Savitsky 1964 validity; see :mod:`sessions.physics.planing`).
+    ``boards`` maps a board name to a :class:`sessions.boards.Board`. A board without an
+    outline but with length and width gets the default outline for them
+    (:meth:`sessions.boards.Outline.default_for`). The band is NaN when the board lacks the
+    figures the model needs or the rider's load is outside the rider ranges or the model's
+    range (Savitsky 1964 validity; see :mod:`sessions.physics.planing`).
     """
     import warnings
 
+    from sessions.boards import Outline
     from sessions.errors import FloatliftError, ModelValidityWarning
     from sessions.load import load_figures
     from sessions.riders import Rider
+
+    boards = dict(boards)
+    for name, spec in boards.items():
+        if getattr(spec, "outline", None) is None and spec.length_m and spec.width_m:
+            boards[name] = dataclasses.replace(spec, outline=Outline.default_for(spec.length_m, spec.width_m))
 
     def model(board: str, row: pd.Series) -> tuple[float, float]:
         spec = boards.get(board)

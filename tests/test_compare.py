@@ -333,6 +333,10 @@ def test_board_load_model_uses_the_load_figures():
     assert model(A, row) == pytest.approx(want)
     assert all(math.isnan(v) for v in model("unknown board", row))
     assert all(math.isnan(v) for v in model(A, pd.Series({"rider_body_mass_kg": 900.0, "rider_gear_mass_kg": 0.0})))
+    # a board stored without outline stations gets the default outline for its length and width
+    bare = Board(name=A, length_m=1.83, width_m=0.49, thickness_m=0.062, volume_l=30.0, mass_kg=2.8)
+    assert cmp.board_load_model({A: bare})(A, row) == pytest.approx(want)
+    assert bare.outline is None  # the caller's board is left as it was
 
 
 def test_json_document_has_the_contract_keys():

@@ -105,11 +105,10 @@ def _run_compare(args, date_from, date_to) -> int:
         specs = {}
         for name in args.board:
             try:
-                specs[name] = board_from_library(lib.board(name))
                 if hasattr(lib, "board_object"):  # keeps measured outline stations
-                    measured = lib.board_object(name)
-                    if measured.outline is not None:
-                        specs[name] = measured
+                    specs[name] = lib.board_object(name)
+                else:
+                    specs[name] = board_from_library(lib.board(name))
             except LookupError:
                 continue  # compare_boards names the missing board
     comparison = cmp.compare_boards(rides, sessions, selection, rules, onset_model=cmp.board_load_model(specs))
