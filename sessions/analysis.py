@@ -34,7 +34,7 @@ import pandas as pd
 from sessions.conditioning import ConditionedTrack, ConditioningSettings, condition, resample_uniform
 from sessions.errors import AnalysisError
 from sessions.metrics import SessionMetrics, session_metrics
-from sessions.rides import Ride, RideSettings, clean_ride_labels, extract_rides, find_missed_waves, reject_scattered_rides
+from sessions.rides import Ride, RideSettings, clean_ride_labels, extract_rides, find_missed_waves, reject_scattered_rides, require_water_context
 from sessions.states import PADDLE, RIDE, STATES, ShoreGeometry, StateModelSettings, estimate_shore, label_states, net_speed, runs
 from sessions.track import Track
 
@@ -129,8 +129,8 @@ class SessionAnalysis:
     def state_runs(self) -> list[dict]:
         """Runs of equal state on the grid: ``{"state", "start", "end"}`` (ISO UTC).
 
-        A run ends where the next one starts; a run before a long gap ends one grid
-        step after its last sample.
+        A run ends where the next one starts; the last run before a long gap (or the
+        end) ends at the last fix before it.
         """
         t = self.samples["t_s"].to_numpy()
         piece = self.samples["piece"].to_numpy()
@@ -138,8 +138,9 @@ class SessionAnalysis:
         key = codes.astype(np.int64) * 1_000_000 + piece.astype(np.int64)
         out = []
         step = self.settings.grid_step_s
+        bounds = piece_bounds_s(self.conditioned)
         for _val, a, b in runs(key):
-            end_s = t[b] if b < len(t) and piece[b] == piece[a] else min(t[b - 1] + step, self.track.duration_s)
+            end_s = t[b] if b < len(t) and piece[b] == piece[a] else bounds.get(int(piece[a]), (0.0, t[b - 1] + step))[1]
             out.append({"state": STATES[codes[a]], "start": self.iso_at(t[a]), "end": self.iso_at(max(end_s, t[a]))})
         return out
 
@@ -227,6 +228,7 @@ def analyse(track: Track, *, settings: AnalysisSettings | None = None) -> Sessio
     cos_shore = shore.cos_shoreward(gvx, gvy) if shore.known else np.zeros(len(gv))
     labels = clean_ride_labels(labels, gt, gv, cos_shore, s.rides)
     labels = reject_scattered_rides(labels, gx, gy, s.rides)
+    labels = require_water_context(labels, gt, gv, s.rides)
     rides = extract_rides(labels, gt, gv, cond, s.rides, seed=s.onset_seed)
     missed = find_missed_waves(labels, gt, gv, cos_shore, s.rides)
     ride_idx = np.full(len(gt), -1, dtype=np.int32)
@@ -235,7 +237,8 @@ def analyse(track: Track, *, settings: AnalysisSettings | None = None) -> Sessio
         labels[(gt >= r.first_ride_s) & (gt < r.start_s)] = PADDLE
         labels[(gt >= r.start_s) & (gt <= r.end_s)] = RIDE
         ride_idx[(gt >= r.start_s) & (gt <= r.end_s)] = r.index
-    metrics = session_metrics(track.duration_s, gt, gx, gy, grid["piece"].to_numpy(), labels, rides, missed, s.grid_step_s)
+    bounds = piece_bounds_s(cond)
+    metrics = session_metrics(track.duration_s, gt, gx, gy, grid["piece"].to_numpy(), labels, rides, missed, s.grid_step_s, bounds)
     samples = pd.DataFrame(
         {
             "time": track.start + pd.to_timedelta(gt, unit="s"),
@@ -291,6 +294,17 @@ def iso_utc(ts) -> str:
     if ms:
         text += f".{ms:03d}"
     return text + "Z"
+
+
+def piece_bounds_s(cond: ConditionedTrack) -> dict[int, tuple[float, float]]:
+    """Times [s] of the first and last fix of each gap-free piece."""
+    p = cond.piece
+    if len(p) == 0:
+        return {}
+    cut = np.flatnonzero(np.diff(p)) + 1
+    starts = np.concatenate(([0], cut))
+    ends = np.concatenate((cut, [len(p)])) - 1
+    return {int(p[a]): (float(cond.t_s[a]), float(cond.t_s[b])) for a, b in zip(starts, ends)}
 
 
 def _num(v) -> float | None:

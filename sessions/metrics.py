@@ -44,12 +44,20 @@ class SessionMetrics:
         return asdict(self)
 
 
-def session_metrics(track_duration_s: float, grid_t_s, grid_x_m, grid_y_m, grid_piece, labels, rides, missed, step_s: float) -> SessionMetrics:
-    """Compute :class:`SessionMetrics` (see the module docstring for conventions)."""
+def session_metrics(track_duration_s: float, grid_t_s, grid_x_m, grid_y_m, grid_piece, labels, rides, missed, step_s: float,
+                    piece_bounds_s=None) -> SessionMetrics:
+    """Compute :class:`SessionMetrics` (see the module docstring for conventions).
+
+    ``piece_bounds_s`` maps each piece index to the times of its first and last fix;
+    each grid step then stands for the time until the next step of its piece, the first
+    step also for the time since the piece's first fix, so the state times of a piece
+    add up to its duration exactly.
+    """
     lab = np.asarray(labels)
     t = np.asarray(grid_t_s, dtype=float)
-    counts = np.bincount(lab.astype(np.int64), minlength=len(STATES)) if len(lab) else np.zeros(len(STATES))
-    in_state = {name: float(counts[k]) * step_s for k, name in enumerate(STATES)}
+    w = grid_weights_s(t, grid_piece, piece_bounds_s)
+    sums = np.bincount(lab.astype(np.int64), weights=w, minlength=len(STATES)) if len(lab) else np.zeros(len(STATES))
+    in_state = {name: float(sums[k]) for k, name in enumerate(STATES)}
     analysed = sum(in_state.values())
     share = {name: (v / analysed if analysed > 0 else 0.0) for name, v in in_state.items()}
     water = in_state["paddle"] + in_state["wait"] + in_state["ride"]
@@ -83,6 +91,30 @@ def session_metrics(track_duration_s: float, grid_t_s, grid_x_m, grid_y_m, grid_
         peak_speed_mps=peak,
         median_onset_speed_mps=float(np.median(onsets)) if onsets else None,
     )
+
+
+def grid_weights_s(grid_t_s, grid_piece, piece_bounds_s=None) -> np.ndarray:
+    """Time [s] each grid step stands for (see :func:`session_metrics`)."""
+    t = np.asarray(grid_t_s, dtype=float)
+    p = np.asarray(grid_piece)
+    n = len(t)
+    if n == 0:
+        return np.zeros(0)
+    w = np.zeros(n)
+    same = p[1:] == p[:-1]
+    w[:-1] = np.where(same, np.diff(t), 0.0)
+    if piece_bounds_s is None:
+        step = float(np.median(np.diff(t))) if n > 1 else 1.0
+        last = np.concatenate((~same, [True]))
+        w[last] = step
+        return w
+    first = np.concatenate(([True], ~same))
+    last = np.concatenate((~same, [True]))
+    for i in np.flatnonzero(first):
+        w[i] += max(t[i] - piece_bounds_s[int(p[i])][0], 0.0)
+    for i in np.flatnonzero(last):
+        w[i] += max(piece_bounds_s[int(p[i])][1] - t[i], 0.0)
+    return w
 
 
 __all__ = ["SessionMetrics", "session_metrics", "RIDE"]

@@ -40,10 +40,13 @@ class RideSettings:
     min_peak_speed_mps: float = 2.5  # a ride must reach this speed [m/s]
     max_ride_speed_mps: float = 16.0  # faster is a vehicle or a GPS fault [m/s]
     max_seaward_cos: float = -0.5  # mean heading more seaward than this: not a ride
+    min_lead_s: float = 3.0  # a ride needs this much paddling or waiting right before it [s]
     merge_gap_s: float = 2.0  # ride runs separated by at most this are one ride [s]
     catch_max_s: float = 15.0  # catch start searched this far before the ride [s]
     takeoff_peak_share: float = 0.85  # take-off ends when the speed first reaches this share of the peak
     takeoff_accel_mps2: float = 1.0  # without an onset: the ride starts at the first such rise [m/s^2]
+    end_speed_mps: float = 2.0  # the ride ends when the speed is back down to this [m/s]
+    end_max_extra_s: float = 4.0  # searched at most this far after the last riding step [s]
     catch_speed_mps: float = 1.6  # the catch starts after the last step at or below this [m/s]
     missed_move_mps: float = 0.5  # a burst moves at least this fast [m/s]
     missed_min_speed_mps: float = 0.85  # and reaches this smoothed speed [m/s]
@@ -107,11 +110,41 @@ def clean_ride_labels(labels: np.ndarray, grid_t_s, speed_mps, cos_shore, s: Rid
             lab[a:b] = SHORE
         elif dur < s.min_ride_s or peak < s.min_peak_speed_mps or float(np.mean(c[a:b])) < s.max_seaward_cos:
             lab[a:b] = PADDLE
-    # a ride must start from the water (paddle or wait), not from land
+    return lab
+
+
+def require_water_context(labels, grid_t_s, speed_mps, s: RideSettings) -> np.ndarray:
+    """Relabel rides that do not start from the water or that run into land travel.
+
+    A ride needs at least ``min_lead_s`` of paddling or waiting right before it on a
+    continuous grid (the catch): otherwise it becomes ``shore`` after land or ``paddle``.
+    A ride followed directly by ``shore`` moving faster than ``min_peak_speed_mps``
+    (median of the next 10 s) is part of land travel and becomes ``shore``.
+    """
+    lab = np.asarray(labels).copy()
+    t = np.asarray(grid_t_s, dtype=float)
+    v = np.asarray(speed_mps, dtype=float)
+    step = float(np.median(np.diff(t))) if len(t) > 1 else 1.0
+    # a ride must start from the water: at least ``min_lead_s`` of paddling or waiting
+    # just before it on a continuous grid (the catch), not from land or a gap; and a
+    # ride that runs straight into fast land travel is part of it
     rr = runs(lab)
     for k, (val, a, b) in enumerate(rr):
-        if val == RIDE and k > 0 and rr[k - 1][0] == SHORE and t[a] - t[a - 1] <= step * 1.5:
-            lab[a:b] = SHORE
+        if val != RIDE:
+            continue
+        lead = 0.0
+        j = a - 1
+        while j >= 0 and lab[j] in (PADDLE, WAIT) and t[j + 1] - t[j] <= 1.5 * step and lead < s.min_lead_s:
+            lead += t[j + 1] - t[j]
+            j -= 1
+        if lead < s.min_lead_s:
+            lab[a:b] = SHORE if (k > 0 and rr[k - 1][0] == SHORE) else PADDLE
+            continue
+        if k + 1 < len(rr) and rr[k + 1][0] == SHORE and t[rr[k + 1][1]] - t[b - 1] <= 1.5 * step:
+            n0, n1 = rr[k + 1][1], rr[k + 1][2]
+            after = v[n0 : min(n1, n0 + int(round(10.0 / step)))]
+            if len(after) and float(np.median(after)) > s.min_peak_speed_mps:
+                lab[a:b] = SHORE
     return lab
 
 
@@ -165,7 +198,7 @@ def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed:
         if val != RIDE:
             continue
         first = float(gt[a])
-        end = float(gt[b - 1])
+        end = ride_end(gt, gv, lab, b, s.end_speed_mps, s.end_max_extra_s, step)
         catch = catch_start(gt, gv, lab, a, s.catch_max_s, step, s.catch_speed_mps)
         # per-fix samples of the ride
         i0, i1 = np.searchsorted(t, [first, end + 1e-9], side="left")
@@ -294,6 +327,24 @@ def catch_start(gt, gv, lab, a: int, catch_max_s: float, step: float, catch_spee
     if len(slow):
         return float(gt[lo + slow[-1]])
     return float(gt[lo + int(np.argmin(seg))])
+
+
+def ride_end(gt, gv, lab, b: int, end_speed_mps: float, max_extra_s: float, step: float) -> float:
+    """End of a ride whose last riding grid step is ``b - 1``.
+
+    The state model hands over to paddling while the board is still slowing down; the
+    ride is taken to end at the first following step at or below ``end_speed_mps``
+    (back to paddling pace), searched at most ``max_extra_s`` on a continuous grid over
+    water states; otherwise at the last riding step.
+    """
+    t = np.asarray(gt, dtype=float)
+    end = float(t[b - 1])
+    j = b
+    while j < len(t) and t[j] - t[b - 1] <= max_extra_s and t[j] - t[j - 1] <= 1.5 * step and lab[j] in (PADDLE, WAIT):
+        if gv[j] <= end_speed_mps:
+            return float(t[j])
+        j += 1
+    return end
 
 
 def takeoff_by_acceleration(gt, gv, lo_s: float, hi_s: float, default_s: float, accel_mps2: float) -> float:
