@@ -87,10 +87,28 @@ def compare(result, truth: dict, track_start: pd.Timestamp) -> dict:
         "acc": acc,
         "onsets": sum(r.onset_speed_mps is not None for r in result.rides),
         "onset_err": [r.onset_speed_mps - truth["rides"][k]["onset_speed_mps"] for k, r in _matched(result, truth, track_start) if r.onset_speed_mps is not None],
+        "missed_tp": _match_intervals(
+            [(_t(track_start, m["start"]), _t(track_start, m["end"])) for m in truth.get("missed_waves", [])],
+            list(result.missed_waves),
+            slack_s=2.0,
+        ),
         "missed_true": len(truth.get("missed_waves", [])),
         "missed_det": len(result.missed_waves),
         "confusion": pd.crosstab(pd.Series(sec, name="truth"), pd.Series(got, name="analysis")),
     }
+
+
+def _match_intervals(true, found, slack_s: float = 0.0) -> int:
+    """Number of one-to-one matches between overlapping intervals (greedy in time)."""
+    used = set()
+    hits = 0
+    for a, b in true:
+        for j, (c, d) in enumerate(found):
+            if j not in used and c <= b + slack_s and d >= a - slack_s:
+                used.add(j)
+                hits += 1
+                break
+    return hits
 
 
 def _matched(result, truth, track_start):
@@ -149,10 +167,13 @@ def summarise(df: pd.DataFrame) -> pd.DataFrame:
                 "end_mae_s": med_abs("end_err"),
                 "catch_mae_s": med_abs("catch_err"),
                 "state_acc": float(g["acc"].mean()),
+                "state_acc_min": float(g["acc"].min()),
                 "onset_found": g["onsets"].sum() / det if det else float("nan"),
                 "onset_mae_mps": med_abs("onset_err"),
                 "missed_true": int(g["missed_true"].sum()),
                 "missed_det": int(g["missed_det"].sum()),
+                "missed_recall": g["missed_tp"].sum() / max(g["missed_true"].sum(), 1),
+                "missed_precision": g["missed_tp"].sum() / max(g["missed_det"].sum(), 1),
             }
         )
     return pd.DataFrame(out)
@@ -179,6 +200,28 @@ def run_speed() -> dict:
     return {"points": track.n_points, "analyse_s": float(np.median(times)), "gpxpy_parse_s": float(np.median(ptimes))}
 
 
+def run_foreign() -> list[tuple[str, str]]:
+    """Analyse every GPX file in the shared folder of other programs' files (if present)."""
+    import warnings
+
+    from sessions.analysis import analyse_file
+    from sessions.errors import FloatliftError
+
+    folder = Path(__file__).resolve().parent.parent.parent / "shared" / "foreign_gpx"
+    out = []
+    for path in sorted(folder.glob("*.gpx")):
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                res = analyse_file(path)
+            out.append((path.name, f"{res.metrics.rides} rides, {res.track.n_points} fixes"))
+        except FloatliftError as exc:
+            out.append((path.name, f"refused: {type(exc).__name__}"))
+        except Exception as exc:  # noqa: BLE001 - the benchmark reports crashes, it does not stop
+            out.append((path.name, f"CRASH {type(exc).__name__}: {exc}"))
+    return out
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--sessions", type=int, default=60)
@@ -193,6 +236,11 @@ def main(argv=None) -> int:
         if conf is not None:
             print("\nper-second confusion (rows truth, columns analysis):")
             print(conf.fillna(0).astype(int).to_string())
+    foreign = run_foreign()
+    if foreign:
+        print("\nGPX files from other programs (none is a surf session):")
+        for name, what in foreign:
+            print(f"  {name:48s} {what}")
     if not args.no_speed:
         sp = run_speed()
         print(f"\n4-hour 1 Hz track ({sp['points']} fixes): analyse {sp['analyse_s']:.3f} s, gpxpy.parse {sp['gpxpy_parse_s']:.3f} s")
