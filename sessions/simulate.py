@@ -131,6 +131,8 @@ class SimConfig:
         def bad(msg: str) -> SimulationError:
             return SimulationError(f"simulator setting {msg}")
 
+        if isinstance(self.seed, bool) or not isinstance(self.seed, (int, np.integer)) or self.seed < 0:
+            raise bad(f"seed={self.seed!r} is not a whole number >= 0")
         if self.sampling not in SAMPLINGS:
             raise bad(f"sampling={self.sampling!r} is not one of {', '.join(SAMPLINGS)}")
         if self.style not in STYLES:

@@ -89,6 +89,10 @@ def test_bad_settings_raise_a_floatlift_error():
         SimConfig(wave_face_m=-1)
     with pytest.raises(SimulationError, match="duration_s"):
         SimConfig(duration_s=float("nan"))
+    with pytest.raises(SimulationError, match="seed"):
+        SimConfig(seed=-1)
+    with pytest.raises(SimulationError, match="seed"):
+        SimConfig(seed=1.5)
     with pytest.raises(SimulationError, match="start"):
         SimConfig(start="2026-04-18 07:00")  # no time zone
 
