@@ -866,13 +866,13 @@ def _pooled_median(sorted_values, sorted_codes, n_clusters, idx) -> np.ndarray:
     flat = idx.reshape(-1, idx.shape[-1])
     rows = flat.shape[0]
     offsets = flat + n_clusters * np.arange(rows)[:, None]
-    counts = np.bincount(offsets.ravel(), minlength=rows * n_clusters).reshape(rows, n_clusters)
-    weights = counts[:, sorted_codes].astype(np.int32)  # (rows, n_values)
+    counts = np.bincount(offsets.ravel(), minlength=rows * n_clusters).astype(np.int32)
+    weights = counts.reshape(rows, n_clusters)[:, sorted_codes]  # (rows, n_values)
     cum = np.cumsum(weights, axis=1, dtype=np.int32)
     total = cum[:, -1]
     k1, k2 = (total - 1) // 2, total // 2
-    i1 = (cum <= k1[:, None]).sum(axis=1)
-    i2 = (cum <= k2[:, None]).sum(axis=1)
+    i1 = np.count_nonzero(cum <= k1[:, None], axis=1)
+    i2 = np.count_nonzero(cum <= k2[:, None], axis=1)
     med = 0.5 * (sorted_values[i1] + sorted_values[i2])
     return med.reshape(lead)
 
