@@ -266,6 +266,9 @@ def test_gpx_reads_back(sim, tmp_path):
         path = tmp_path / "back.gpx"
         path.write_bytes(data)
         pts = read_gpx(path).points
+        # device speed and elevation survive the round trip (written with 3 decimals)
+        assert np.allclose(pts["speed_mps"], sim.points["speed_mps"], atol=5e-4)
+        assert np.allclose(pts["ele_m"], sim.points["ele_m"], atol=5e-4)
     else:  # the project's reader is not in this checkout yet: use gpxpy
         import gpxpy
 
