@@ -85,6 +85,8 @@ def compare(result, truth: dict, track_start: pd.Timestamp) -> dict:
         "end_err": end_err,
         "catch_err": catch_err,
         "acc": acc,
+        "peak_err": [r.peak_speed_mps - truth["rides"][k]["peak_speed_mps"] for k, r in _matched(result, truth, track_start)],
+        "dist_rel_err": [r.distance_m / truth["rides"][k]["distance_m"] - 1.0 for k, r in _matched(result, truth, track_start) if truth["rides"][k]["distance_m"] > 0],
         "onsets": sum(r.onset_speed_mps is not None for r in result.rides),
         "onset_err": [r.onset_speed_mps - truth["rides"][k]["onset_speed_mps"] for k, r in _matched(result, truth, track_start) if r.onset_speed_mps is not None],
         "missed_tp": _match_intervals(
@@ -168,6 +170,8 @@ def summarise(df: pd.DataFrame) -> pd.DataFrame:
                 "catch_mae_s": med_abs("catch_err"),
                 "state_acc": float(g["acc"].mean()),
                 "state_acc_min": float(g["acc"].min()),
+                "peak_mae_mps": med_abs("peak_err"),
+                "dist_mae_rel": med_abs("dist_rel_err"),
                 "onset_found": g["onsets"].sum() / det if det else float("nan"),
                 "onset_mae_mps": med_abs("onset_err"),
                 "missed_true": int(g["missed_true"].sum()),

@@ -10,8 +10,9 @@ A ride is a run of ``ride`` labels on the analysis grid that passes plausibility
   the take-off after which the speed rises by at least ``takeoff_accel_mps2`` over one
   grid step (planing acceleration is several times the catch's), or failing that the
   first riding grid step;
-* **end**: the last riding grid step (kick-out, fall, or speed back to paddling);
-* duration, distance along the smoothed path, peak and mean speed.
+* **end**: speed back to paddling pace after the last riding grid step (kick-out or
+  fall);
+* duration, distance (integral of the smoothed speed), peak and mean speed.
 
 A missed wave is a burst of fast shoreward paddling that does not turn into a ride.
 
@@ -230,9 +231,8 @@ def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed:
         ride.start_s = takeoff_by_acceleration(gt, gv, catch, peak_s, first, s.takeoff_accel_mps2)
         if s.use_onset:
             _apply_onset(ride, cond, seed + len(rides))
-        k0, k1 = np.searchsorted(t, [ride.start_s - 1e-9, end + 1e-9])
         ride.duration_s = max(end - ride.start_s, 0.0)
-        ride.distance_m = path_length_m(cond.x_m[k0:k1], cond.y_m[k0:k1])
+        ride.distance_m = distance_by_speed_m(t, v, ride.start_s, end)
         ride.mean_speed_mps = ride.distance_m / ride.duration_s if ride.duration_s > 0 else float(peak_speed)
         rides.append(ride)
     return rides
@@ -363,6 +363,23 @@ def takeoff_by_acceleration(gt, gv, lo_s: float, hi_s: float, default_s: float, 
     rate = (v[i0 + 1 : i1 + 1] - v[i0:i1]) / np.where(dt > 0, dt, np.inf)
     hit = np.flatnonzero(rate >= accel_mps2)
     return float(t[i0 + hit[0]]) if len(hit) else float(default_s)
+
+
+def distance_by_speed_m(t_s, speed_mps, start_s: float, end_s: float) -> float:
+    """Distance [m] covered between two instants: trapezoidal integral of the speed.
+
+    The smoothed speed (fused with the device's speed when present) is the best
+    estimated quantity of a ride; the length of the smoothed path would shrink in turns
+    and where the path is smoothed more than the speed.
+    """
+    t = np.asarray(t_s, dtype=float)
+    v = np.asarray(speed_mps, dtype=float)
+    if end_s <= start_s or len(t) < 2:
+        return 0.0
+    inner = (t > start_s) & (t < end_s)
+    tt = np.concatenate(([start_s], t[inner], [end_s]))
+    vv = np.concatenate(([np.interp(start_s, t, v)], v[inner], [np.interp(end_s, t, v)]))
+    return float(np.sum(0.5 * (vv[1:] + vv[:-1]) * np.diff(tt)))
 
 
 def path_length_m(x_m, y_m) -> float:
