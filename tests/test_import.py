@@ -54,6 +54,27 @@ def url(tmp_path) -> str:
     return db.sqlite_url(tmp_path / "lib.sqlite")
 
 
+@pytest.fixture(params=["sqlite", pytest.param("postgresql", marks=pytest.mark.postgres)])
+def any_url(request, tmp_path):
+    """A fresh library on SQLite, and on a fresh database of the PostgreSQL test server."""
+    if request.param == "sqlite":
+        yield db.sqlite_url(tmp_path / "lib.sqlite")
+        return
+    import secrets
+
+    from sqlalchemy.engine import make_url
+
+    pg_url = request.getfixturevalue("pg_url")
+    name = "fl_import_" + secrets.token_hex(6)  # generated identifier: safe to format
+    admin = sa.create_engine(pg_url, isolation_level="AUTOCOMMIT")
+    with admin.connect() as conn:
+        conn.exec_driver_sql(f'CREATE DATABASE "{name}"')
+    yield make_url(pg_url).set(database=name).render_as_string(hide_password=False)
+    with admin.connect() as conn:
+        conn.exec_driver_sql(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)')
+    admin.dispose()
+
+
 def run_cli(capsys, *argv) -> tuple[int, str, str]:
     code = main([str(a) for a in argv])
     out, err = capsys.readouterr()
@@ -130,8 +151,8 @@ def test_damaged_zip_is_refused(tmp_path):
 
 
 # --- importing -------------------------------------------------------------------------------------
-def test_import_is_idempotent_and_keeps_the_file_bytes(url, tracks):
-    with Library.open(url) as lib:
+def test_import_is_idempotent_and_keeps_the_file_bytes(any_url, tracks):
+    with Library.open(any_url) as lib:
         first = import_paths(lib, tracks[:3], workers=1)
         assert len(first.imported) == 3 and first.already_present == [] and first.refused == []
         again = import_paths(lib, tracks[:4], workers=1)
@@ -186,7 +207,8 @@ def test_assignment_applies_rider_board_conditions(url, tracks):
         assert lib.counts()["sessions"] == 2
 
 
-def test_import_cli_json_contract(capsys, url, tracks, tmp_path):
+def test_import_cli_json_contract(capsys, any_url, tracks, tmp_path):
+    url = any_url
     archive = _zip_with(tmp_path / "week.zip", {"a/day3.gpx": tracks[2].read_bytes(), "../x.gpx": b"x"})
     code, out, err = run_cli(capsys, "import", tracks[0], tracks[1], archive, "--db", url, "--json", "--quiet",
                              "--jobs", "2", "--wave-face", "4ft", "--wind", "10kn", "--water", "sea")
@@ -217,7 +239,8 @@ def test_import_cli_bad_input_exits_2_with_one_line(capsys, url, tracks):
         assert lib.counts()["sessions"] == 0
 
 
-def test_reanalyse_old_versions_and_all(capsys, url, tracks):
+def test_reanalyse_old_versions_and_all(capsys, any_url, tracks):
+    url = any_url
     with Library.open(url) as lib:
         ids = import_paths(lib, tracks[:3], workers=1).imported
         before = lib.session(ids[0])
