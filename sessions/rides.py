@@ -57,6 +57,7 @@ class RideSettings:
     missed_from_mps: float = 0.6  # starting from this speed or slower [m/s]
     missed_clear_s: float = 10.0  # and not within this of a ride [s]
     use_onset: bool = True  # call the planing-onset estimator when it is installed
+    onset_lead_s: float = 0.0  # the onset window opens this long before the catch start [s]
 
     def to_dict(self) -> dict:
         return asdict(self)
@@ -230,7 +231,7 @@ def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed:
         )
         ride.start_s = takeoff_by_acceleration(gt, gv, catch, peak_s, first, s.takeoff_accel_mps2)
         if s.use_onset:
-            _apply_onset(ride, cond, seed + len(rides))
+            _apply_onset(ride, cond, seed + len(rides), s.onset_lead_s)
         ride.duration_s = max(end - ride.start_s, 0.0)
         ride.distance_m = distance_by_speed_m(t, v, ride.start_s, end)
         ride.mean_speed_mps = ride.distance_m / ride.duration_s if ride.duration_s > 0 else float(peak_speed)
@@ -238,13 +239,13 @@ def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed:
     return rides
 
 
-def _apply_onset(ride: Ride, cond, seed: int) -> None:
+def _apply_onset(ride: Ride, cond, seed: int, lead_s: float = 0.0) -> None:
     """Fill the onset fields and move the ride start to the onset when one is found."""
     try:
         from sessions.onset import estimate_onset
     except ImportError:
         return
-    lo, hi = ride.catch_start_s, max(ride.peak_s, ride.first_ride_s)
+    lo, hi = ride.catch_start_s - lead_s, max(ride.peak_s, ride.first_ride_s)
     if hi <= lo:
         ride.onset_reason = "window: the peak comes before the catch start"
         return
