@@ -2,25 +2,31 @@
 
 A ride starts in displacement mode: the surfer catches the wave and the speed rises
 slowly. When the board begins to plane the acceleration jumps and the speed climbs fast
-to the ride's peak. Over the ride's catch-to-peak window this module fits a continuous
-two-phase ("hinge" or "broken-stick") regression of speed against time,
+until the planing acceleration ends and the ride settles. Over the ride's catch-to-peak
+window (plus a short margin after the peak) this module fits a continuous three-phase
+(two-break) regression of speed against time,
 
 .. math::
 
-    v(t) = a + b_1 \\min(t - \\tau, 0) + b_2 \\max(t - \\tau, 0)
-             + c \\max(t - \\tau, 0)^2 ,
+    v(t) = a + b_1 (t - \\tau)_- + b_2 [(t - \\tau)_+ - (t - \\tau - \\Delta)_+]
+             + b_3 (t - \\tau - \\Delta)_+ ,
 
-and reports the break :math:`\\tau` as the onset instant and :math:`a = v(\\tau)` as the
-onset speed. The optional quadratic term lets the planing phase bend over as the speed
-approaches its peak. For a fixed :math:`\\tau` the model is linear in its coefficients,
-so the least-squares break is found by profiling the residual sum of squares over a grid
-of candidate breaks (Hudson 1966; Hinkley 1971), with a parabolic refinement between
-grid points. Everything is vectorised over candidates and bootstrap replicates.
+with :math:`x_- = \\min(x, 0)`, :math:`x_+ = \\max(x, 0)`, and reports the first break
+:math:`\\tau` as the onset instant and :math:`a = v(\\tau)` as the onset speed; ``b1`` is the
+displacement-mode acceleration, ``b2`` the planing acceleration lasting ``Delta`` and
+``b3`` the trend afterwards. A speed that comes out of a smoother is the sharp speed seen
+through a near-Gaussian kernel, so every column can be blurred by a Gaussian of width
+``w`` (closed forms in :func:`phase_design`). For fixed ``(tau, Delta, w)`` the model is
+linear in its coefficients, so the least-squares fit is found by profiling the residual
+sum of squares over a grid (Hudson 1966; Hinkley 1971), with a parabolic refinement of
+``tau`` between grid points. Everything is vectorised over candidates and bootstrap
+replicates.
 
-The 90 % intervals come from a moving-block residual bootstrap (Künsch 1989), which keeps
-the serial correlation of the residuals of a smoothed speed series; the residuals are
-rescaled for the fitted degrees of freedom (Davison & Hinkley 1997, sec. 6.2.3) and the
-intervals are bootstrap percentile intervals (Efron & Tibshirani 1993, ch. 13).
+The 90 % intervals come from a parametric bootstrap (Efron & Tibshirani 1993, ch. 6)
+whose noise is a continuous-time first-order autoregressive process fitted to the
+residuals, so that the serial correlation of a smoothed series and irregular sampling
+are honoured; the intervals are bootstrap percentile intervals (Efron & Tibshirani
+1993, ch. 13).
 
 When the window cannot support an estimate (too few samples, a dropout where the change
 lies, no rise in speed, or no clear change of acceleration) the result carries no
@@ -33,11 +39,12 @@ Hudson, D. J. (1966). Fitting segmented curves whose join points have to be esti
     J. Amer. Statist. Assoc. 61(316), 1097-1129.
 Hinkley, D. V. (1971). Inference in two-phase regression. J. Amer. Statist. Assoc.
     66(336), 736-743.
-Künsch, H. R. (1989). The jackknife and the bootstrap for general stationary
-    observations. Ann. Statist. 17(3), 1217-1241.
+Chiu, G., Lockhart, R. & Routledge, R. (2006). Bent-cable regression theory and
+    applications. J. Amer. Statist. Assoc. 101(474), 542-553.
 Efron, B. & Tibshirani, R. J. (1993). An Introduction to the Bootstrap. Chapman & Hall.
-Davison, A. C. & Hinkley, D. V. (1997). Bootstrap Methods and their Application.
-    Cambridge University Press.
+Schwarz, G. (1978). Estimating the dimension of a model. Ann. Statist. 6(2), 461-464.
+Marriott, F. H. C. & Pope, J. A. (1954). Bias in the estimation of autocorrelations.
+    Biometrika 41, 390-402.
 """
 
 from __future__ import annotations
@@ -45,32 +52,56 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+from scipy import special
 
 # --- settings (documented defaults) -------------------------------------------------
 #: Fewest valid samples in the window for any estimate.
 MIN_SAMPLES = 6
-#: Fewest samples strictly on each side of a candidate break.
+#: Fewest samples strictly on each side of a candidate onset.
 MIN_SIDE = 2
 #: Smallest speed rise over the window that can hold a change of mode [m/s].
 #: Common practice, no published source: paddling speed is about 1 m/s, a ride
 #: reaches several m/s, so a rise under 0.5 m/s is not a ride's take-off.
 MIN_RISE_MPS = 0.5
-#: A pause between fixes longer than this (and longer than 4 median intervals) is a
-#: dropout [s].
+#: A pause between samples longer than this (and longer than 4 median intervals) at the
+#: onset is a dropout [s].
 DROPOUT_GAP_S = 3.0
-#: The planing slope must be at least this many times the displacement slope.
+#: The planing acceleration must be at least this many times the displacement one.
 #: Common practice, no published source.
 MIN_SLOPE_RATIO = 1.5
+#: Largest deceleration admitted in the first (displacement) phase [m/s^2]; a catch
+#: does not slow down. Common practice, no published source.
+MAX_FIRST_DECEL_MPS2 = 0.05
+#: Data used after the end of the window, to see the planing acceleration end [s].
+MARGIN_AFTER_PEAK_S = 3.0
+#: Blur widths tried on a smoothed speed series [s] (standard deviation of the Gaussian
+#: kernel the smoother is modelled by; 0 is no blur).
+BLUR_WIDTHS_S = (0.0, 0.5, 1.0, 1.5)
+#: Durations of the planing acceleration tried [s]; one longer than the window makes
+#: the model two-phase.
+DURATIONS_S = (0.4, 0.8, 1.4, 2.4, 4.0, 6.5, 1.0e3)
+#: Most candidate onsets per profile.
+MAX_CANDIDATES = 40
+#: A smoothed series is thinned to at most this many samples per second before the fit
+#: (its samples are strongly correlated, so little information is lost).
+MAX_RATE_SMOOTHED_HZ = 2.5
+#: Let the displacement phase curve (a quadratic term before the onset).
+PRE_CURVATURE = False
+#: The bootstrap refits at the best blur width plus this many neighbours each side.
+BOOT_WIDTH_SPAN = 1
+#: Extra spread of the onset speed [m/s] and instant [s] when only a smoothed speed is
+#: available: position-only speeds carry slowly varying GNSS errors and the smoother's
+#: lag, which the fit's residuals cannot show. Calibrated on simulated sessions with
+#: seeds disjoint from the benchmark's (see docs/onset.md); recheck against real data.
+SMOOTHED_ALLOWANCE_MPS = 0.35
+SMOOTHED_ALLOWANCE_S = 0.6
 #: Bootstrap replicates.
-N_BOOT = 300
-#: Most candidate breaks per profile.
-MAX_CANDIDATES = 160
+N_BOOT = 200
 #: Two-sided level of the reported intervals.
 LEVEL = 0.90
-#: Weight of a device-reported speed against the smoothed one when both exist.
-#: Doppler speed from a GNSS receiver is a direct measurement with near-independent
-#: errors of roughly 0.1-0.2 m/s (from memory; receiver data sheets), so it is used
-#: in place of the smoothed speed where it covers the window.
+#: A device-reported (Doppler) speed is used in place of the smoothed one when it covers
+#: at least this share of the window's samples: it is a direct measurement with
+#: near-independent errors, not blurred by a smoother.
 REPORTED_MIN_COVERAGE = 0.8
 
 # Reason codes: the text before the colon of :attr:`OnsetEstimate.reason`.
@@ -149,13 +180,15 @@ def estimate_onset(
     speed_mps : array_like
         Smoothed speed at those times [m/s]; NaN where unknown.
     speed_sd_mps : array_like, optional
-        Standard deviation of the smoothed speed [m/s]. Used as a floor for the noise
-        level of the bootstrap.
+        Standard deviation of the smoothed speed [m/s]. Accepted for the pipeline's
+        interface; the bootstrap noise level is estimated from the residuals.
     reported_speed_mps : array_like, optional
         Speed reported by the device [m/s], NaN where absent. Used in place of the
         smoothed speed when it covers at least 80 % of the window's samples.
     window : (float, float), optional
-        The ride's catch start and speed peak [s]; default the whole series.
+        The ride's catch start and speed peak [s]; default the whole series. Samples up
+        to :data:`MARGIN_AFTER_PEAK_S` after the peak are used too, to see the planing
+        acceleration end.
     seed : int
         Seed of the bootstrap; equal inputs and seed give equal results.
 
@@ -166,9 +199,10 @@ def estimate_onset(
 
     Notes
     -----
-    Two-phase regression with a continuous join (Hudson 1966; Hinkley 1971), profiled
-    over candidate breaks; moving-block residual bootstrap (Künsch 1989) for the
-    percentile intervals (Efron & Tibshirani 1993, ch. 13).
+    Three-phase regression with continuous joins (Hudson 1966; Hinkley 1971), blurred
+    for smoothed input, profiled over a grid of onsets, durations and blur widths;
+    parametric bootstrap with correlated noise for the percentile intervals (Efron &
+    Tibshirani 1993, ch. 6 and 13). See the module docstring.
     """
     try:
         t, y, sd, src = _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window)
@@ -216,7 +250,7 @@ def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window):
             raise _Unusable(REASON_BAD_INPUT, "window is not a pair of numbers") from None
         if not (np.isfinite(w0) and np.isfinite(w1)) or w1 <= w0:
             raise _Unusable(REASON_BAD_INPUT, f"window ({w0}, {w1}) is empty or not finite")
-        keep &= (t >= w0) & (t <= w1)
+        keep &= (t >= w0) & (t <= w1 + MARGIN_AFTER_PEAK_S)
     t, v, sd, rep = t[keep], v[keep], sd[keep], rep[keep]
     order = np.argsort(t, kind="stable")
     t, v, sd, rep = t[order], v[order], sd[order], rep[order]
@@ -234,9 +268,18 @@ def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window):
         v = np.where(fill, rep, v)
         ok = np.isfinite(v)
     t, v, sd = t[ok], v[ok], sd[ok]
+    if len(t) > 1:
+        t, v, sd = _thin(t, v, sd, MAX_RATE_SMOOTHED_HZ)
     if len(t) < MIN_SAMPLES:
         raise _Unusable(REASON_TOO_FEW, f"{len(t)} valid speed samples in the window, need {MIN_SAMPLES}")
     return t, v, sd, "smoothed"
+
+
+def _thin(t, v, sd, max_rate_hz):
+    """Keep at most one sample per 1/max_rate_hz seconds (the first of each slot)."""
+    slot = np.floor((t - t[0]) * max_rate_hz)
+    first = np.concatenate(([True], np.diff(slot) > 0))
+    return t[first], v[first], sd[first]
 
 
 def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, seed: int) -> OnsetEstimate:
@@ -246,30 +289,37 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     gap_limit = max(DROPOUT_GAP_S, 4.0 * dt_med)
 
     k = max(1, min(3, n // 4))
-    rise = float(np.median(y[-k:]) - np.median(y[:k]))
+    rise = float(np.max(y[k:]) - np.median(y[:k])) if n > k else 0.0
     if not rise >= MIN_RISE_MPS:
         return _none(REASON_NO_RISE, f"speed rises by {rise:.2f} m/s over the window, need {MIN_RISE_MPS} m/s")
 
-    # time is centred and scaled for numerical conditioning of the normal equations
-    t0 = float(t[0])
+    t0 = float(t[0])  # time from the first sample (conditioning of the normal equations)
     span = float(t[-1] - t[0])
     tc = t - t0
     cand = _candidates(tc, MIN_SIDE, MAX_CANDIDATES)
     if len(cand) < 3:
         return _none(REASON_TOO_FEW, f"{n} samples leave no room for a break with {MIN_SIDE} samples each side")
+    widths = np.asarray(BLUR_WIDTHS_S if src == "smoothed" else (0.0,))
+    durations = np.asarray(DURATIONS_S)
 
-    design = hinge_design(tc, cand)  # (M, n, p)
-    gram_inv = _gram_inverse(design)
-    if gram_inv is None:
-        return _none(REASON_TOO_FEW, "samples too clustered in time to fit two phases")
+    design = phase_design(tc, cand, durations, widths)  # (W, D, M, n, 4)
+    grid_shape = design.shape[:3]
+    n_p = design.shape[-1]
+    design = design.reshape(-1, n, n_p)
+    gram_inv, ok = _gram_inverse(design)
+    if not ok.any():
+        return _none(REASON_TOO_FEW, "samples too clustered in time to fit the phases")
 
-    rss, coef = _profile(design, gram_inv, y[None, :])  # (M, 1), (M, p, 1)
-    tau_c, j = _refine_break(cand, rss)
-    j0 = int(j[0])
-    beta = coef[j0, :, 0]
-    fitted = design[j0] @ beta
-    tau = float(tau_c[0])
-    onset_speed = float(_interp_at(cand, coef[:, 0, :], tau_c, j)[0])
+    # parameters per (width, duration) pair: a, b1, b2 and the onset; b3 and the
+    # duration when the planing acceleration ends; the blur width when it is not 0
+    n_params = (4 + 2 * (durations < 1e3)[None, :] + (widths > 0)[:, None]).reshape(-1)
+    fit = _best_fits(design, gram_inv, ok, y[None, :], cand, grid_shape, n_params)
+    if fit["flat"][0] < 0:
+        return _none(REASON_NO_CHANGE, "no fit with a steady or rising first phase")
+    tau = float(fit["tau"][0])
+    onset_speed = float(fit["speed"][0])
+    beta = fit["coef"][:, 0]
+    fitted = design[int(fit["flat"][0])] @ beta
     b1, b2 = float(beta[1]), float(beta[2])
 
     # dropout at the change
@@ -281,42 +331,50 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
         )
     if float(dt.max()) > 0.5 * span:
         return _none(REASON_DROPOUT, f"one pause of {float(dt.max()):.1f} s covers half the window")
-
-    if not (b2 > 0 and b2 > MIN_SLOPE_RATIO * max(b1, 0.0)):
+    if not _took_off(b1, b2):
         return _none(
             REASON_NO_CHANGE,
             f"acceleration {b1:.2f} m/s^2 before and {b2:.2f} m/s^2 after the best break: no take-off",
         )
 
-    # moving-block residual bootstrap
+    # parametric bootstrap with serially correlated (continuous-time AR(1)) noise, refit
+    # over the onset grid at the best blur width and the neighbouring durations
     resid = y - fitted
-    p = design.shape[2] + 1  # coefficients plus the break
-    scale = np.sqrt(n / max(n - p, 1))
-    resid = (resid - resid.mean()) * scale
-    floor = float(np.nanmedian(sd)) if np.isfinite(sd).any() else 0.0
-    rms = float(np.sqrt(np.mean(resid**2)))
-    if rms < floor and rms > 0:
-        resid = resid * (floor / rms)
-    block = _block_length(resid)
+    n_par = int(n_params[int(fit["iw"][0]) * len(durations) + int(fit["idur"][0])])
+    w_best = float(widths[int(fit["iw"][0])])
+    sigma, corr_time = _noise_model(tc, resid, n_par, min_corr_time_s=np.sqrt(np.pi) * w_best)
     rng = np.random.default_rng(seed)
-    ystar = fitted[None, :] + _block_resample(resid, block, N_BOOT, rng)  # (B, n)
-    rss_b, coef_b = _profile(design, gram_inv, ystar)
-    tau_b, j_b = _refine_break(cand, rss_b)
-    speed_b = _interp_at(cand, coef_b[:, 0, :], tau_b, j_b)
-    b1_b = coef_b[j_b, 1, np.arange(N_BOOT)]
-    b2_b = coef_b[j_b, 2, np.arange(N_BOOT)]
-    took_off = np.mean((b2_b > 0) & (b2_b > MIN_SLOPE_RATIO * np.maximum(b1_b, 0.0)))
+    ystar = fitted[None, :] + _ou_noise(tc, sigma, corr_time, N_BOOT, rng)  # (B, n)
+    iw, idur = int(fit["iw"][0]), int(fit["idur"][0])
+    sw = slice(max(iw - BOOT_WIDTH_SPAN, 0), iw + BOOT_WIDTH_SPAN + 1)
+    sdur = slice(max(idur - 1, 0), idur + 2)
+    sub = np.arange(design.shape[0]).reshape(grid_shape)[sw, sdur, :]
+    sub_shape = sub.shape
+    sub = sub.reshape(-1)
+    sub_params = n_params.reshape(grid_shape[:2])[sw, sdur].reshape(-1)
+    boot = _best_fits(design[sub], gram_inv[sub], ok[sub], ystar, cand, sub_shape, sub_params)
+    good = boot["flat"] >= 0
+    took_off = np.mean(good & _took_off(boot["coef"][1], boot["coef"][2]))
     if took_off < 0.5 + LEVEL / 2:
         return _none(
             REASON_NO_CHANGE,
             f"the change of acceleration is not clear: present in {100 * took_off:.0f} % of resamples",
         )
-
+    tau_b, speed_b = boot["tau"][good], boot["speed"][good]
+    if src == "smoothed":
+        # allowance for the smoother's own distortion, which residuals cannot show
+        tau_b = tau_b + rng.normal(0.0, SMOOTHED_ALLOWANCE_S, size=tau_b.shape)
+        speed_b = speed_b + rng.normal(0.0, SMOOTHED_ALLOWANCE_MPS, size=speed_b.shape)
     lo_q, hi_q = (1 - LEVEL) / 2, (1 + LEVEL) / 2
     t_lo, t_hi = np.quantile(tau_b, [lo_q, hi_q])
     v_lo, v_hi = np.quantile(speed_b, [lo_q, hi_q])
-    t_lo, t_hi = min(t_lo, tau), max(t_hi, tau)
-    v_lo, v_hi = min(v_lo, onset_speed), max(v_hi, onset_speed)
+    # the break is resolved only to within the sampling interval around it: the
+    # intervals hold at least the central 90 % of that interval (a uniform position
+    # within it) and the speeds along the displacement-phase slope there
+    half = 0.5 * LEVEL * _local_interval(tc, tau)
+    t_lo, t_hi = min(t_lo, tau - half), max(t_hi, tau + half)
+    dv = max(b1, 0.0) * half
+    v_lo, v_hi = min(v_lo, onset_speed - dv), max(v_hi, onset_speed + dv)
     return OnsetEstimate(
         time_s=tau + t0,
         speed_mps=onset_speed,
@@ -327,29 +385,73 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
 
 
 # --- pure functions -----------------------------------------------------------------
-def hinge_design(t: np.ndarray, breaks: np.ndarray, curved: bool = True) -> np.ndarray:
-    """Design matrices of the continuous two-phase model, one per candidate break.
+def _local_interval(t: np.ndarray, tau: float) -> float:
+    """Length of the sampling interval that holds tau [s]."""
+    i = int(np.clip(np.searchsorted(t, tau, side="right"), 1, len(t) - 1))
+    return float(t[i] - t[i - 1])
+
+
+def _took_off(b1, b2):
+    """Planing acceleration positive and clearly above the displacement one."""
+    return (b2 > 0) & (b2 > MIN_SLOPE_RATIO * np.maximum(b1, 0.0))
+
+
+def _blurred_ramp(x: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """E[(x + U)_+] for U ~ N(0, w^2); (x)_+ where w = 0."""
+    ws = np.where(w > 0, w, 1.0)
+    z = x / ws
+    cdf = np.where(w > 0, special.ndtr(z), (x > 0).astype(float))
+    pdf = np.where(w > 0, np.exp(-0.5 * z * z) / np.sqrt(2.0 * np.pi), 0.0)
+    return x * cdf + np.where(w > 0, w, 0.0) * pdf
+
+
+def _blurred_square_neg(x: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """E[(x + U)_-^2] for U ~ N(0, w^2); (x)_-^2 where w = 0."""
+    ws = np.where(w > 0, w, 1.0)
+    z = x / ws
+    cdf = np.where(w > 0, special.ndtr(z), (x > 0).astype(float))
+    pdf = np.where(w > 0, np.exp(-0.5 * z * z) / np.sqrt(2.0 * np.pi), 0.0)
+    w0 = np.where(w > 0, w, 0.0)
+    return (x * x + w0 * w0) * (1.0 - cdf) - x * w0 * pdf
+
+
+def phase_design(t: np.ndarray, onsets: np.ndarray, durations: np.ndarray, widths=(0.0,)) -> np.ndarray:
+    """Design matrices of the continuous three-phase model on a grid of its nonlinear parameters.
+
+    With blur width ``w > 0`` every column is the expectation of the sharp column over a
+    Gaussian shift of the time axis with standard deviation ``w``: a sharp three-phase
+    speed seen through a symmetric smoothing kernel (a smooth-transition model in the
+    spirit of the bent cable of Chiu, Lockhart & Routledge 2006). For ``U ~ N(0, w^2)``,
+    ``E[(x+U)_+] = x Phi(x/w) + w phi(x/w)`` and ``E[(x+U)_-] = x - E[(x+U)_+]``.
 
     Parameters
     ----------
     t : ndarray, shape (n,)
         Sample times [s].
-    breaks : ndarray, shape (M,)
-        Candidate breaks [s].
-    curved : bool
-        Add the quadratic term of the second phase.
+    onsets : ndarray, shape (M,)
+        Candidate onsets tau [s].
+    durations : ndarray, shape (D,)
+        Candidate durations Delta of the planing acceleration [s].
+    widths : sequence of float, length W
+        Blur widths [s]; 0 is the sharp model.
 
     Returns
     -------
-    ndarray, shape (M, n, 3) or (M, n, 4)
-        Columns 1, min(t - tau, 0), max(t - tau, 0) and, if curved, max(t - tau, 0)^2;
-        so the first coefficient is the value at the break.
+    ndarray, shape (W, D, M, n, 4)
+        Columns 1, (t - tau)_-, (t - tau)_+ - (t - tau - Delta)_+, (t - tau - Delta)_+
+        (blurred); the first coefficient is the sharp model's speed at the onset.
     """
-    d = t[None, :] - breaks[:, None]
-    cols = [np.ones_like(d), np.minimum(d, 0.0), np.maximum(d, 0.0)]
-    if curved:
-        cols.append(np.maximum(d, 0.0) ** 2)
-    return np.stack(cols, axis=2)
+    w = np.asarray(widths, dtype=float)[:, None, None, None]
+    x1 = t[None, None, None, :] - np.asarray(onsets, dtype=float)[None, None, :, None]
+    x2 = x1 - np.asarray(durations, dtype=float)[None, :, None, None]
+    shape = (w.shape[0], len(durations), len(onsets), len(t))
+    x1 = np.broadcast_to(x1, shape)
+    p1 = _blurred_ramp(x1, w)
+    p2 = _blurred_ramp(np.broadcast_to(x2, shape), w)
+    cols = [np.ones(shape), x1 - p1, p1 - p2, p2]
+    if PRE_CURVATURE:
+        cols.append(_blurred_square_neg(x1, w))
+    return np.stack(cols, axis=-1)
 
 
 def _candidates(t: np.ndarray, min_side: int, max_count: int) -> np.ndarray:
@@ -357,8 +459,8 @@ def _candidates(t: np.ndarray, min_side: int, max_count: int) -> np.ndarray:
     lo, hi = t[min_side - 1], t[n - min_side]
     if not hi > lo:
         return np.empty(0)
-    # a grid at least four times finer than the median sampling interval
-    step = float(np.median(np.diff(t))) / 4.0
+    # a grid at least twice as fine as the median sampling interval
+    step = float(np.median(np.diff(t))) / 2.0
     count = int(np.clip(np.ceil((hi - lo) / max(step, 1e-9)) + 1, 3, max_count))
     grid = np.linspace(lo, hi, count)
     # keep only candidates with min_side samples strictly on each side
@@ -367,39 +469,101 @@ def _candidates(t: np.ndarray, min_side: int, max_count: int) -> np.ndarray:
     return grid[(left >= min_side) & (right >= min_side)]
 
 
-def _gram_inverse(design: np.ndarray) -> np.ndarray | None:
-    gram = np.einsum("mnp,mnq->mpq", design, design)
-    # relative conditioning check per candidate
-    try:
-        cond = np.linalg.cond(gram)
-    except np.linalg.LinAlgError:
-        return None
-    if not np.all(np.isfinite(cond)) or np.max(cond) > 1e12:
-        return None
-    return np.linalg.inv(gram)
+def _gram_inverse(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Inverse normal matrices (K, p, p) and a mask of the usable ones.
+
+    Column 3 (the trend after the planing acceleration) is all but zero when the
+    acceleration lasts past the window's end; a tiny ridge on that coefficient then
+    turns the fit into the two-phase one instead of a singular matrix. A design is
+    unusable when the determinant of its normal matrix scaled to unit diagonal (1 for
+    orthogonal columns, 0 for dependent ones) is below 1e-12.
+    """
+    n = design.shape[1]
+    gram = np.einsum("knp,knq->kpq", design, design)
+    gram[:, 3, 3] += 1e-9 * n
+    diag = np.sqrt(np.einsum("kpp->kp", gram))
+    with np.errstate(all="ignore"):
+        scaled = gram / (diag[:, :, None] * diag[:, None, :])
+        det = np.linalg.det(np.nan_to_num(scaled))
+    ok = np.isfinite(det) & (det > 1e-12)
+    inv = np.zeros_like(gram)
+    if ok.any():
+        try:
+            inv[ok] = np.linalg.inv(gram[ok])
+        except np.linalg.LinAlgError:  # pragma: no cover - guarded by the determinant test
+            for i in np.flatnonzero(ok):
+                try:
+                    inv[i] = np.linalg.inv(gram[i])
+                except np.linalg.LinAlgError:
+                    ok[i] = False
+    return inv, ok
+
+
+def _best_fits(design, gram_inv, ok, y, cand, grid_shape, n_params) -> dict:
+    """Best onset, duration and blur width for every series in y (B, n).
+
+    The (blur width, duration) pair is chosen by the Bayesian information criterion
+    ``n log(RSS / n) + k log(n)`` (Schwarz 1978), ``k = n_params`` per pair (W * D,), so
+    that a third phase or a blur is only used when the data ask for it; the onset is
+    the least-squares one for that pair.
+
+    Fits whose first phase slows down (slope below -:data:`MAX_FIRST_DECEL_MPS2`), whose
+    planing phase does not speed up, or whose third phase speeds up faster than the
+    planing phase are not admitted. Returns a dict of arrays over
+    the B series: ``tau`` (refined onset), ``speed`` (value at the onset), ``flat``
+    (index of the best design, -1 when none is admissible), ``iw``/``idur`` (its blur
+    width and duration indices) and ``coef`` (p, B), the coefficients there.
+    """
+    n_b = y.shape[0]
+    n_w, n_d, n_c = grid_shape
+    rss, coef = _profile(design, gram_inv, y)  # (K, B), (K, B, p)
+    b2 = coef[:, :, 2]
+    admissible = ok[:, None] & (coef[:, :, 1] >= -MAX_FIRST_DECEL_MPS2) & (b2 > 0) & (coef[:, :, 3] <= b2)
+    rss = np.where(admissible, rss, np.inf)
+    rss3 = rss.reshape(n_w * n_d, n_c, n_b)
+    n = y.shape[1]
+    with np.errstate(divide="ignore"):
+        crit = n * np.log(np.maximum(rss3.min(axis=1), 1e-300) / n) + np.log(n) * np.asarray(n_params, dtype=float)[:, None]
+    crit = np.where(np.isfinite(rss3.min(axis=1)), crit, np.inf)
+    wd = np.argmin(crit, axis=0)  # (B,) best (width, duration) pair
+    cols = np.arange(n_b)
+    rows = rss3[wd, :, cols].T  # (M, B): profile over onsets at each series' best pair
+    tau, j = _refine_break(cand, rows)
+    coef4 = coef.reshape(n_w * n_d, n_c, n_b, coef.shape[2])
+    speed = _interp_at(cand, coef4[wd, :, cols, 0].T, tau, j)
+    flat = wd * n_c + j
+    found = np.isfinite(rss[flat, cols])
+    return {
+        "tau": tau,
+        "speed": speed,
+        "flat": np.where(found, flat, -1),
+        "iw": wd // n_d,
+        "idur": wd % n_d,
+        "coef": coef[flat, cols, :].T,
+    }
 
 
 def _profile(design: np.ndarray, gram_inv: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Least-squares fit of every candidate break to every series.
+    """Least-squares fit of every candidate design to every series.
 
     Parameters
     ----------
-    design : (M, n, p); gram_inv : (M, p, p); y : (B, n)
+    design : (K, n, p); gram_inv : (K, p, p), symmetric; y : (B, n)
 
     Returns
     -------
-    rss : (M, B) residual sums of squares; coef : (M, p, B) coefficients.
+    rss : (K, B) residual sums of squares; coef : (K, B, p) coefficients.
     """
-    xty = np.matmul(design.transpose(0, 2, 1), y.T[None, :, :])  # (M, p, B)
-    coef = np.matmul(gram_inv, xty)  # (M, p, B)
-    rss = np.sum(y * y, axis=1)[None, :] - np.sum(xty * coef, axis=1)
+    xty = np.matmul(y[None, :, :], design)  # (K, B, p)
+    coef = np.matmul(xty, gram_inv)  # (K, B, p)
+    rss = np.sum(y * y, axis=1)[None, :] - np.sum(xty * coef, axis=2)
     return rss, coef
 
 
 def _refine_break(cand: np.ndarray, rss: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Best break per series, refined by a parabola through the grid minimum and neighbours.
+    """Best onset per series, refined by a parabola through the grid minimum and neighbours.
 
-    Returns the refined breaks (B,) and the index of the grid minimum (B,).
+    Returns the refined onsets (B,) and the index of the grid minimum (B,).
     """
     m = len(cand)
     j = np.argmin(rss, axis=0)
@@ -407,9 +571,9 @@ def _refine_break(cand: np.ndarray, rss: np.ndarray) -> tuple[np.ndarray, np.nda
     cols = np.arange(rss.shape[1])
     r0, r1, r2 = rss[jc - 1, cols], rss[jc, cols], rss[jc + 1, cols]
     h = cand[jc + 1] - cand[jc]  # uniform grid
-    denom = r0 - 2.0 * r1 + r2
     with np.errstate(divide="ignore", invalid="ignore"):
-        shift = np.where(denom > 0, 0.5 * (r0 - r2) / denom, 0.0)
+        denom = r0 - 2.0 * r1 + r2
+        shift = np.where(np.isfinite(denom) & (denom > 0), 0.5 * (r0 - r2) / denom, 0.0)
     shift = np.clip(shift, -0.5, 0.5)
     interior = (j > 0) & (j < m - 1)
     tau = np.where(interior, cand[jc] + shift * h, cand[j])
@@ -417,34 +581,55 @@ def _refine_break(cand: np.ndarray, rss: np.ndarray) -> tuple[np.ndarray, np.nda
 
 
 def _interp_at(cand: np.ndarray, values: np.ndarray, tau: np.ndarray, j: np.ndarray) -> np.ndarray:
-    """Linear interpolation of per-candidate values (M, B) at each series' break tau (B,)."""
+    """Linear interpolation of per-candidate values (M, B) at each series' onset tau (B,)."""
     m = len(cand)
     cols = np.arange(values.shape[1])
     k = np.clip(np.where(tau >= cand[j], j, j - 1), 0, m - 2)
-    w = np.clip((tau - cand[k]) / (cand[k + 1] - cand[k]), 0.0, 1.0)
-    return (1 - w) * values[k, cols] + w * values[k + 1, cols]
+    frac = np.clip((tau - cand[k]) / (cand[k + 1] - cand[k]), 0.0, 1.0)
+    a, b = values[k, cols], values[k + 1, cols]
+    return np.where(np.isfinite(b), (1 - frac) * a + frac * b, a)
 
 
-def _block_length(resid: np.ndarray) -> int:
-    """Block length from the residuals' lag-one autocorrelation.
+def _noise_model(t: np.ndarray, resid: np.ndarray, n_par: int, min_corr_time_s: float = 0.0) -> tuple[float, float]:
+    """Marginal SD [m/s] and correlation time [s] of the noise, from fit residuals.
 
-    The block spans about twice the integrated autocorrelation time of an AR(1)
-    process, (1 + rho) / (1 - rho), so that blocks keep the serial dependence
-    (Künsch 1989 needs blocks growing with the dependence range).
+    The lag-one autocorrelation at the median sampling interval is corrected for its
+    small-sample bias, -(1 + 3 rho) / n (Marriott & Pope 1954), and for the fitted
+    coefficients (n_par / n); the residual variance is corrected for the degrees of
+    freedom that the fit absorbs, about ``n_par`` times the integrated autocorrelation
+    time (1 + rho) / (1 - rho) of a first-order autoregression.
     """
     n = len(resid)
     r = resid - resid.mean()
     den = float(np.dot(r, r))
+    dt_med = float(np.median(np.diff(t)))
     rho = float(np.dot(r[:-1], r[1:]) / den) if den > 0 else 0.0
-    rho = min(max(rho, 0.0), 0.95)
+    rho = rho + (1 + 3 * max(rho, 0.0)) / n + n_par / n
+    if min_corr_time_s > 0:
+        rho = max(rho, float(np.exp(-dt_med / min_corr_time_s)))
+    rho = min(max(rho, 0.0), 0.98)
     iat = (1 + rho) / (1 - rho)
-    return int(np.clip(np.ceil(2 * iat), 1, max(1, n // 3)))
+    keep = max(1.0 - n_par * iat / n, 0.25)
+    sigma = float(np.sqrt(den / n / keep))
+    corr_time = -dt_med / np.log(rho) if rho > 0 else 0.0
+    return sigma, corr_time
 
 
-def _block_resample(resid: np.ndarray, block: int, n_boot: int, rng: np.random.Generator) -> np.ndarray:
-    """Moving-block resamples of a residual series (Künsch 1989), shape (n_boot, n)."""
-    n = len(resid)
-    n_blocks = -(-n // block)
-    starts = rng.integers(0, n - block + 1, size=(n_boot, n_blocks))
-    idx = (starts[:, :, None] + np.arange(block)[None, None, :]).reshape(n_boot, -1)[:, :n]
-    return resid[idx]
+def _ou_noise(t: np.ndarray, sigma: float, corr_time: float, n_boot: int, rng: np.random.Generator) -> np.ndarray:
+    """Stationary Ornstein-Uhlenbeck noise at times t, shape (n_boot, n).
+
+    e_i = phi_i e_(i-1) + sqrt(1 - phi_i^2) sigma z_i with phi_i = exp(-dt_i / T): the
+    exact discretisation of a continuous-time first-order autoregression at irregular
+    times.
+    """
+    n = len(t)
+    z = rng.standard_normal((n_boot, n))
+    if corr_time <= 0:
+        return sigma * z
+    phi = np.exp(-np.diff(t) / corr_time)
+    innov = np.sqrt(1.0 - phi**2)
+    out = np.empty((n_boot, n))
+    out[:, 0] = z[:, 0]
+    for i in range(1, n):
+        out[:, i] = phi[i - 1] * out[:, i - 1] + innov[i - 1] * z[:, i]
+    return sigma * out
