@@ -96,6 +96,7 @@ def test_terminal_table_and_report(library_url, capsys, tmp_path):
     assert status == 0, err
     assert "Board comparison" in out and f"{B} lower than {A}" in out
     assert "Measured onset against the planing model" in out
+    assert "at least 8 rides from 4 sessions per board" in out
     assert "surf within your ability" in out
     assert sorted(p.name for p in (tmp_path / "rep").iterdir()) == sorted(
         ["onset_by_board.png", "onset_vs_loading.png", "rides_per_hour.png", "summary.pdf"])
