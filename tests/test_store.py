@@ -142,6 +142,21 @@ def test_each_earlier_revision_upgrades_to_head(db_url, start_rev):
     engine.dispose()
 
 
+def test_board_outline_text_survives_the_outline_stations_migration(db_url):
+    """0001 -> 0002 renames boards.outline to outline_source and keeps its values."""
+    engine = db.make_engine(db_url)
+    db.migrate(engine, "0001")
+    with engine.begin() as conn:
+        conn.execute(sa.text("INSERT INTO boards (name, outline, volume_l, created_at) "
+                             "VALUES (:n, :o, :v, :t)"),
+                     {"n": "Old Pin 6'4", "o": "three widths", "v": 31.0, "t": dt.datetime(2026, 1, 1)})
+    db.migrate(engine)
+    engine.dispose()
+    with Library.open(db_url) as lib:
+        b = lib.board("Old Pin 6'4")
+    assert (b["outline_source"], b["outline_stations"], b["volume_l"]) == ("three widths", None, 31.0)
+
+
 def test_data_survive_reopening_and_a_repeated_migration(db_url):
     with Library.open(db_url) as lib:
         lib.add_rider("Tomas Reyl", body_mass_kg=74.0)
@@ -241,6 +256,27 @@ def test_board_add_edit_and_errors(lib):
         lib.add_board("Odd", colour="red")
     with pytest.raises(NotFoundError):
         lib.edit_board("Nope", mass_kg=3)
+
+
+def test_board_and_rider_objects_round_trip(lib):
+    """A board given in the trade's notation comes back with the same outline and area."""
+    from sessions.boards import Board as BoardSpec
+
+    spec = BoardSpec.from_spec(name="Heron 5'10", dims="5'10\" x 19 1/4\" x 2 7/16\"", volume="28.6 L",
+                               mass_kg="2.9", model="Heron", version="2")
+    lib.add_board_spec(spec)
+    back = lib.board_object("Heron 5'10")
+    assert back.planform_area_m2 == pytest.approx(spec.planform_area_m2, rel=1e-12)
+    assert lib.board("Heron 5'10")["planform_area_m2"] == pytest.approx(spec.planform_area_m2, rel=1e-12)
+    assert (back.length_m, back.volume_l, back.version) == (spec.length_m, 28.6, "2")
+    lib.add_rider("Noor", body_mass_kg=70, gear_mass_kg=2.0, ability="improver",
+                  measured_at=dt.datetime(2026, 1, 1, tzinfo=UTC))
+    lib.edit_rider("Noor", body_mass_kg=66, measured_at=dt.datetime(2026, 7, 1, tzinfo=UTC))
+    assert lib.rider_object("Noor", at=dt.datetime(2026, 3, 1, tzinfo=UTC)).total_mass_kg == 72.0
+    assert lib.rider_object("Noor").body_mass_kg == 66.0
+    lib.add_rider("Massless")
+    with pytest.raises(RiderSpecError, match="no body mass"):
+        lib.rider_object("Massless")
 
 
 # --- sessions --------------------------------------------------------------------------------------
