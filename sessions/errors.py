@@ -95,6 +95,10 @@ class ReportError(FloatliftError, OSError):
     """A report folder or file cannot be created or written."""
 
 
+class DashboardError(FloatliftError, OSError):
+    """The dashboard cannot be started (address in use, bad host or port, app missing)."""
+
+
 class ModelValidityWarning(UserWarning):
     """A physical model is used outside its published range of validity."""
 
