@@ -88,7 +88,7 @@ MAX_RATE_SMOOTHED_HZ = 2.5
 #: Let the displacement phase curve (a quadratic term before the onset).
 PRE_CURVATURE = False
 #: The bootstrap refits at the best blur width plus this many neighbours each side.
-BOOT_WIDTH_SPAN = 1
+BOOT_WIDTH_SPAN = 0
 #: Extra spread of the onset speed [m/s] and instant [s] when only a smoothed speed is
 #: available: position-only speeds carry slowly varying GNSS errors and the smoother's
 #: lag, which the fit's residuals cannot show. Calibrated on simulated sessions with
@@ -96,7 +96,7 @@ BOOT_WIDTH_SPAN = 1
 SMOOTHED_ALLOWANCE_MPS = 0.35
 SMOOTHED_ALLOWANCE_S = 0.6
 #: Bootstrap replicates.
-N_BOOT = 200
+N_BOOT = 150
 #: Two-sided level of the reported intervals.
 LEVEL = 0.90
 #: A device-reported (Doppler) speed is used in place of the smoothed one when it covers
