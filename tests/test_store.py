@@ -501,3 +501,22 @@ def test_body_mass_at():
 def test_errors_are_floatlift_errors():
     for cls in (StoreError, LibraryInputError, NotFoundError):
         assert issubclass(cls, FloatliftError)
+
+
+def test_a_locked_sqlite_library_gives_a_store_error(tmp_path, monkeypatch):
+    """A writer that waits longer than busy_timeout gets a clear error, not a traceback."""
+    url = db.sqlite_url(tmp_path / "busy.sqlite")
+    monkeypatch.setattr(db, "SQLITE_BUSY_TIMEOUT_MS", 200)
+    with Library.open(url) as lib:
+        other = sa.create_engine(url)
+        blocker = other.connect()
+        blocker.exec_driver_sql("BEGIN IMMEDIATE")  # another program holds the write lock
+        try:
+            with pytest.raises(StoreError, match="cannot write to the library"):
+                lib.store_session(make_analysis(seed=40), gpx_bytes(40), analysis_version="t1")
+        finally:
+            blocker.rollback()
+            blocker.close()
+            other.dispose()
+        sid, created = lib.store_session(make_analysis(seed=40), gpx_bytes(40), analysis_version="t1")
+        assert created and lib.counts()["sessions"] == 1

@@ -382,17 +382,22 @@ class Library:
             if existing is None:
                 raise StoreError(f"cannot store the session: {db._short(exc)}") from exc
             return existing, False
+        except sa.exc.OperationalError as exc:
+            raise StoreError(f"cannot write to the library at {self.url}: {db._short(exc)}") from exc
         return new_id, True
 
     def replace_analysis(self, session_id: int, analysis: Mapping[str, Any], *, analysis_version: str) -> None:
         """Replace a session's analysis, rides and states in one transaction."""
         _check_analysis(analysis)
-        with self._tx() as s, s.begin():
-            row = _get_session(s, session_id)
-            row.ride_rows.clear()
-            row.state_rows.clear()
-            s.flush()
-            _apply_analysis(row, analysis, analysis_version, _now())
+        try:
+            with self._tx() as s, s.begin():
+                row = _get_session(s, session_id)
+                row.ride_rows.clear()
+                row.state_rows.clear()
+                s.flush()
+                _apply_analysis(row, analysis, analysis_version, _now())
+        except sa.exc.OperationalError as exc:
+            raise StoreError(f"cannot write to the library at {self.url}: {db._short(exc)}") from exc
 
     def set_conditions(self, session_id: int, **fields: Any) -> dict:
         """Set the given conditions fields of a session (None clears one); returns them all."""
