@@ -49,6 +49,7 @@ Marriott, F. H. C. & Pope, J. A. (1954). Bias in the estimation of autocorrelati
 
 from __future__ import annotations
 
+import zlib
 from dataclasses import dataclass
 
 import numpy as np
@@ -343,7 +344,7 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     n_par = int(n_params[int(fit["iw"][0]) * len(durations) + int(fit["idur"][0])])
     w_best = float(widths[int(fit["iw"][0])])
     sigma, corr_time = _noise_model(tc, resid, n_par, min_corr_time_s=np.sqrt(np.pi) * w_best)
-    rng = np.random.default_rng(seed)
+    rng = _generator(seed)
     ystar = fitted[None, :] + _ou_noise(tc, sigma, corr_time, N_BOOT, rng)  # (B, n)
     iw, idur = int(fit["iw"][0]), int(fit["idur"][0])
     sw = slice(max(iw - BOOT_WIDTH_SPAN, 0), iw + BOOT_WIDTH_SPAN + 1)
@@ -385,6 +386,14 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
 
 
 # --- pure functions -----------------------------------------------------------------
+def _generator(seed) -> np.random.Generator:
+    """Random generator for a seed; a seed numpy cannot use is folded into one it can."""
+    try:
+        return np.random.default_rng(seed)
+    except (TypeError, ValueError):
+        return np.random.default_rng(zlib.crc32(repr(seed).encode("utf-8")))
+
+
 def _local_interval(t: np.ndarray, tau: float) -> float:
     """Length of the sampling interval that holds tau [s]."""
     i = int(np.clip(np.searchsorted(t, tau, side="right"), 1, len(t) - 1))

@@ -354,3 +354,12 @@ def test_never_raises_on_any_data(pairs, seed):
     if est.reason is None:
         assert math.isfinite(est.speed_mps) and math.isfinite(est.time_s)
         assert est.ci_mps[0] <= est.speed_mps <= est.ci_mps[1]
+
+
+def test_unusual_seeds_are_deterministic():
+    t = np.arange(0.0, 12.0, 1.0)
+    y = ride_speed(t) + 0.05 * np.sin(t)
+    for seed in (-3, "session-7", np.int64(5)):
+        a = estimate_onset(t, y, seed=seed)
+        assert a.reason is None
+        assert a == estimate_onset(t, y, seed=seed)
