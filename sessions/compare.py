@@ -222,8 +222,8 @@ class LoadFit:
     """OLS of onset speed on load terms across boards and riders.
 
     ``coef`` and ``stderr`` follow ``terms``; ``board_residuals`` maps a board to
-    (mean residual, lower, upper, sessions), the interval a Student t interval over the
-    board's per-session mean residuals.
+    (mean residual of its rides, lower, upper, sessions), the interval from
+    :func:`refit_residual_intervals`.
     """
 
     terms: tuple[str, ...]
@@ -297,7 +297,8 @@ def compare_boards(
     all_sessions = select_rows(sessions, anyboard, "start").reset_index(drop=True)
     all_sessions = all_sessions.assign(catch_success=catch_success(all_sessions))
 
-    fit, fit_note, fit_rides = fit_load_model(all_rides, rules)
+    rng = np.random.default_rng(rules.seed)
+    fit, fit_note, fit_rides = fit_load_model(all_rides, rules, rng)
     if fit is not None:
         all_rides = all_rides.assign(**{RESIDUAL_METRIC: fit_rides[RESIDUAL_METRIC].reindex(all_rides.index)})
     else:
@@ -311,7 +312,6 @@ def compare_boards(
     if fit is not None:
         ride_metrics[RESIDUAL_METRIC] = RESIDUAL_LABEL
 
-    rng = np.random.default_rng(rules.seed)
     model_rows = model_table(sel_rides, onset_model)
     summaries = tuple(
         _board_summary(board, sel_rides, sel_sessions, ride_metrics, rules, rng, model_rows)
@@ -540,11 +540,15 @@ def catch_success(sessions: pd.DataFrame) -> pd.Series:
 LOAD_TERMS: tuple[str, ...] = ("planform_loading_npm2", "litres_per_kg", "wave_face_m")
 
 
-def fit_load_model(rides: pd.DataFrame, rules: Rules) -> tuple[LoadFit | None, str, pd.DataFrame]:
+def fit_load_model(
+    rides: pd.DataFrame, rules: Rules, rng: np.random.Generator | None = None
+) -> tuple[LoadFit | None, str, pd.DataFrame]:
     """Regress onset speed on planform loading, litres per kg and wave face height.
 
     Returns the fit (or None), a one-line note saying why not, and the rides that entered
-    the fit with ``onset_residual_mps`` (measured minus fitted).
+    the fit with ``onset_residual_mps`` (measured minus fitted). Each board's mean residual
+    gets an interval from :func:`refit_residual_intervals` (sessions resampled within each
+    board and the whole fit redone per replicate, so the fit's own uncertainty counts).
     """
     terms = list(LOAD_TERMS)
     use = _complete(rides, ["onset_speed_mps", *terms])
@@ -569,10 +573,10 @@ def fit_load_model(rides: pd.DataFrame, rules: Rules) -> tuple[LoadFit | None, s
         return None, "load fit skipped: the load terms do not vary independently (collinear)", empty
     resid = y - fitted
     use = use.assign(**{RESIDUAL_METRIC: resid})
-    per_board: dict[str, tuple[float, float, float, int]] = {}
-    for board, grp in use.groupby("board"):
-        session_means = grp.groupby("session_id")[RESIDUAL_METRIC].mean().to_numpy(float)
-        per_board[str(board)] = mean_t_interval(session_means, rules.confidence)
+    per_board = refit_residual_intervals(
+        design, y, use["session_id"].to_numpy(), use["board"].astype(str).to_numpy(), rules,
+        rng if rng is not None else np.random.default_rng(rules.seed),
+    )
     dof = len(y) - design.shape[1]
     return LoadFit(
         terms=("intercept", *terms),
@@ -584,6 +588,98 @@ def fit_load_model(rides: pd.DataFrame, rules: Rules) -> tuple[LoadFit | None, s
         residual_sd_mps=float(np.sqrt(resid @ resid / dof)),
         board_residuals=per_board,
     ), "", use
+
+
+def refit_residual_intervals(
+    design: np.ndarray, y: np.ndarray, sessions: np.ndarray, boards: np.ndarray, rules: Rules,
+    rng: np.random.Generator,
+) -> dict[str, tuple[float, float, float, int]]:
+    """Mean residual of each board's rides and its session-resampled, refitted interval.
+
+    Each replicate of :func:`scipy.stats.bootstrap` (multi-sample form, one sample of
+    session indices per board) draws every board's sessions with replacement, refits the
+    least-squares model on the drawn rides (weighted by draw counts) and takes each board's
+    mean residual, so the spread carries both the board's session-to-session variation and
+    the uncertainty of the fit. With ``rules.rescale`` the deviation of each board's
+    replicate is widened by sqrt(k / (k - 1)) for its k sessions (Rao & Wu 1988). The
+    interval is mean +/- t(k - 1) x bootstrap standard error (the standard-error interval of
+    Efron & Tibshirani 1993, *An Introduction to the Bootstrap*, ch. 12-13, with Student's
+    quantile for few sessions). Boards with one session are kept in every replicate and get
+    NaN bounds.
+
+    Returns board -> (mean residual [m/s], lower, upper, sessions).
+    """
+    design = np.asarray(design, float)
+    y = np.asarray(y, float)
+    codes, n_sessions = _codes(sessions)
+    board_names = sorted(set(map(str, boards)))
+    session_board = {}
+    for c, b in zip(codes, boards):
+        session_board[int(c)] = str(b)
+    per_board_sessions = {b: np.array(sorted(c for c, bb in session_board.items() if bb == b)) for b in board_names}
+    x = _standardise(design)
+    resid0 = y - x @ np.linalg.lstsq(x, y, rcond=None)[0]
+    est = {b: float(resid0[boards == b].mean()) for b in board_names}
+    out = {b: (est[b], math.nan, math.nan, int(per_board_sessions[b].size)) for b in board_names}
+    sampled = [b for b in board_names if per_board_sessions[b].size >= 2]
+    if not sampled:
+        return out
+    fixed = np.concatenate([per_board_sessions[b] for b in board_names if per_board_sessions[b].size < 2] or [[]])
+    member = np.column_stack([np.asarray(boards) == b for b in sampled]).astype(float)  # rides x boards
+    centre = np.array([est[b] for b in sampled])
+    gain = np.array([_rescale_factor(per_board_sessions[b].size, rules) for b in sampled])
+
+    def statistic(*draws, axis=-1):
+        draws = [np.moveaxis(d, axis, -1) for d in draws]
+        lead = draws[0].shape[:-1]
+        flat = np.concatenate([d.reshape(-1, d.shape[-1]) for d in draws], axis=1)
+        rows = flat.shape[0]
+        offsets = flat.astype(np.int64) + n_sessions * np.arange(rows)[:, None]
+        counts = np.bincount(offsets.ravel(), minlength=rows * n_sessions).reshape(rows, n_sessions)
+        if fixed.size:
+            counts[:, fixed.astype(np.int64)] = 1
+        means = _refit_mean_residuals(x, y, codes, member, counts)  # rows x boards
+        means = centre + gain * (means - centre)
+        return np.moveaxis(means, -1, 0).reshape(len(sampled), *lead)
+
+    res = stats.bootstrap(
+        tuple(per_board_sessions[b] for b in sampled), statistic, n_resamples=rules.n_resamples,
+        vectorized=True, confidence_level=rules.confidence, method="percentile", rng=rng,
+        batch=_batch(y.size),
+    )
+    se = np.atleast_1d(res.standard_error)
+    for i, b in enumerate(sampled):
+        k = int(per_board_sessions[b].size)
+        half = float(stats.t.ppf(0.5 + rules.confidence / 2, k - 1) * se[i])
+        out[b] = (est[b], est[b] - half, est[b] + half, k)
+    return out
+
+
+def _refit_mean_residuals(x, y, ride_codes, member, counts) -> np.ndarray:
+    """Weighted least-squares refit per row of session ``counts``; mean residual per board.
+
+    ``x`` (rides x p) design, ``y`` (rides), ``ride_codes`` session code of each ride,
+    ``member`` (rides x boards) 0/1, ``counts`` (rows x sessions). Returns rows x boards:
+    sum(w r) / sum(w) over each board's rides, r = y - x beta_w, beta_w the weighted LS fit.
+    """
+    w = counts[:, ride_codes].astype(float)  # rows x rides
+    n, p = x.shape
+    xx = (x[:, :, None] * x[:, None, :]).reshape(n, p * p)
+    xtwx = (w @ xx).reshape(-1, p, p)
+    xtwy = w @ (x * y[:, None])
+    beta = np.einsum("bpq,bq->bp", np.linalg.pinv(xtwx), xtwy)
+    resid = y[None, :] - beta @ x.T
+    return ((w * resid) @ member) / (w @ member)
+
+
+def _standardise(design: np.ndarray) -> np.ndarray:
+    """Centre and scale the non-constant columns (same fitted values, better conditioning)."""
+    x = design.copy()
+    for j in range(x.shape[1]):
+        sd = x[:, j].std()
+        if sd > 0:
+            x[:, j] = (x[:, j] - x[:, j].mean()) / sd
+    return x
 
 
 def _complete(frame: pd.DataFrame, cols: list[str]) -> pd.DataFrame:
@@ -612,19 +708,6 @@ def ols(design: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.n
     tss = float(((y - y.mean()) ** 2).sum())
     r2 = 1.0 - float(resid @ resid) / tss if tss > 0 else math.nan
     return coef, np.sqrt(np.diag(cov)), fitted, r2
-
-
-def mean_t_interval(values: np.ndarray, confidence: float) -> tuple[float, float, float, int]:
-    """Mean and Student t interval of independent values; NaN bounds below two values."""
-    values = np.asarray(values, float)
-    n = values.size
-    if n == 0:
-        return math.nan, math.nan, math.nan, 0
-    m = float(values.mean())
-    if n < 2:
-        return m, math.nan, math.nan, n
-    half = float(stats.t.ppf(0.5 + confidence / 2, n - 1) * values.std(ddof=1) / math.sqrt(n))
-    return m, m - half, m + half, n
 
 
 # ======================================================================================
