@@ -30,7 +30,6 @@ import pandas as pd
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from sessions.analysis import analyse  # noqa: E402
-from sessions.states import STATES  # noqa: E402
 from sessions.track import Track, TrackMeta  # noqa: E402
 
 
@@ -248,7 +247,9 @@ def main(argv=None) -> int:
     df = run_accuracy(args.sessions, args.duration, args.verbose)
     with pd.option_context("display.width", 200, "display.max_columns", 30, "display.precision", 3):
         print(summarise(df).to_string(index=False))
-        conf = sum(df["confusion"].tolist()[1:], df["confusion"].iloc[0]) if len(df) else None
+        conf = None
+        for c in df["confusion"]:
+            conf = c if conf is None else conf.add(c, fill_value=0)
         if conf is not None:
             print("\nper-second confusion (rows truth, columns analysis):")
             print(conf.fillna(0).astype(int).to_string())

@@ -68,19 +68,20 @@ class AnalysisSettings:
     def from_dict(cls, data: dict) -> AnalysisSettings:
         """Inverse of :meth:`to_dict`; unknown keys raise :class:`AnalysisError`."""
         data = dict(data or {})
+        known = {"grid_step_s", "conditioning", "states", "rides", "onset_seed"}
+        unknown = sorted(set(data) - known)
+        if unknown:
+            raise AnalysisError(f"unknown analysis setting(s): {', '.join(unknown)}")
         try:
             return cls(
-                grid_step_s=float(data.pop("grid_step_s", 1.0)),
-                conditioning=ConditioningSettings(**data.pop("conditioning", {})),
-                states=StateModelSettings(**data.pop("states", {})),
-                rides=RideSettings(**data.pop("rides", {})),
-                onset_seed=int(data.pop("onset_seed", 0)),
+                grid_step_s=float(data.get("grid_step_s", 1.0)),
+                conditioning=ConditioningSettings(**data.get("conditioning", {})),
+                states=StateModelSettings(**data.get("states", {})),
+                rides=RideSettings(**data.get("rides", {})),
+                onset_seed=int(data.get("onset_seed", 0)),
             )
-        except TypeError as exc:
-            raise AnalysisError(f"unknown analysis setting: {exc}") from exc
-        finally:
-            if data:
-                raise AnalysisError(f"unknown analysis setting(s): {', '.join(sorted(data))}")
+        except (TypeError, ValueError) as exc:
+            raise AnalysisError(f"bad analysis setting: {exc}") from exc
 
 
 @dataclass
@@ -223,8 +224,8 @@ def analyse(track: Track, *, settings: AnalysisSettings | None = None) -> Sessio
     shore = estimate_shore(gx, gy, gv, gvx, gvy)
     net = net_speed(gt, gx, gy, grid["piece"].to_numpy(), s.states.net_window_s)
     labels = label_states(gv, gvx, gvy, gx, gy, shore, s.states, step_s=s.grid_step_s, net_speed_mps=net)
-    # the HMM runs over the grid as one chain; cut the chain at long gaps is not needed
-    # for decoding quality, but state runs never span a gap (see state_runs)
+    # the HMM decodes the whole grid as one chain (a long gap is just a longer step);
+    # state runs are still cut at gaps (see SessionAnalysis.state_runs)
     cos_shore = shore.cos_shoreward(gvx, gvy) if shore.known else np.zeros(len(gv))
     labels = clean_ride_labels(labels, gt, gv, cos_shore, s.rides)
     labels = reject_scattered_rides(labels, gx, gy, s.rides)

@@ -18,7 +18,7 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from sessions.states import PADDLE, RIDE, STATES
+from sessions.states import PADDLE, STATES
 
 
 @dataclass
@@ -115,6 +115,3 @@ def grid_weights_s(grid_t_s, grid_piece, piece_bounds_s=None) -> np.ndarray:
     for i in np.flatnonzero(last):
         w[i] += max(piece_bounds_s[int(p[i])][1] - t[i], 0.0)
     return w
-
-
-__all__ = ["SessionMetrics", "session_metrics", "RIDE"]

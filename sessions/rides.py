@@ -390,6 +390,3 @@ def path_length_m(x_m, y_m) -> float:
     if len(x) < 2:
         return 0.0
     return float(np.sum(np.hypot(np.diff(x), np.diff(y))))
-
-
-__all__ = ["Ride", "RideSettings", "clean_ride_labels", "extract_rides", "find_missed_waves", "catch_start", "path_length_m", "WAIT"]
