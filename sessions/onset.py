@@ -26,7 +26,10 @@ The 90 % intervals come from a parametric bootstrap (Efron & Tibshirani 1993, ch
 whose noise is a continuous-time first-order autoregressive process fitted to the
 residuals, so that the serial correlation of a smoothed series and irregular sampling
 are honoured; the intervals are bootstrap percentile intervals (Efron & Tibshirani
-1993, ch. 13).
+1993, ch. 13), never narrower than the sampling interval around the onset. For a speed
+that comes only from positions, a calibrated allowance for the errors the residuals
+cannot show (slowly varying GNSS errors, the smoother's lag) is added; see
+``docs/onset.md``.
 
 When the window cannot support an estimate (too few samples, a dropout where the change
 lies, no rise in speed, or no clear change of acceleration) the result carries no
@@ -86,8 +89,6 @@ MAX_CANDIDATES = 40
 #: A smoothed series is thinned to at most this many samples per second before the fit
 #: (its samples are strongly correlated, so little information is lost).
 MAX_RATE_SMOOTHED_HZ = 2.5
-#: Let the displacement phase curve (a quadratic term before the onset).
-PRE_CURVATURE = False
 #: The bootstrap refits at the best blur width plus this many neighbours each side.
 BOOT_WIDTH_SPAN = 0
 #: Extra spread of the onset speed [m/s] and instant [s] when only a smoothed speed is
@@ -337,6 +338,8 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
             REASON_NO_CHANGE,
             f"acceleration {b1:.2f} m/s^2 before and {b2:.2f} m/s^2 after the best break: no take-off",
         )
+    if not (float(np.min(y)) - MIN_RISE_MPS <= onset_speed <= float(np.max(y))):
+        return _none(REASON_NO_CHANGE, f"the fitted onset speed {onset_speed:.2f} m/s lies outside the speeds seen")
 
     # parametric bootstrap with serially correlated (continuous-time AR(1)) noise, refit
     # over the onset grid at the best blur width and the neighbouring durations
@@ -414,16 +417,6 @@ def _blurred_ramp(x: np.ndarray, w: np.ndarray) -> np.ndarray:
     return x * cdf + np.where(w > 0, w, 0.0) * pdf
 
 
-def _blurred_square_neg(x: np.ndarray, w: np.ndarray) -> np.ndarray:
-    """E[(x + U)_-^2] for U ~ N(0, w^2); (x)_-^2 where w = 0."""
-    ws = np.where(w > 0, w, 1.0)
-    z = x / ws
-    cdf = np.where(w > 0, special.ndtr(z), (x > 0).astype(float))
-    pdf = np.where(w > 0, np.exp(-0.5 * z * z) / np.sqrt(2.0 * np.pi), 0.0)
-    w0 = np.where(w > 0, w, 0.0)
-    return (x * x + w0 * w0) * (1.0 - cdf) - x * w0 * pdf
-
-
 def phase_design(t: np.ndarray, onsets: np.ndarray, durations: np.ndarray, widths=(0.0,)) -> np.ndarray:
     """Design matrices of the continuous three-phase model on a grid of its nonlinear parameters.
 
@@ -457,10 +450,7 @@ def phase_design(t: np.ndarray, onsets: np.ndarray, durations: np.ndarray, width
     x1 = np.broadcast_to(x1, shape)
     p1 = _blurred_ramp(x1, w)
     p2 = _blurred_ramp(np.broadcast_to(x2, shape), w)
-    cols = [np.ones(shape), x1 - p1, p1 - p2, p2]
-    if PRE_CURVATURE:
-        cols.append(_blurred_square_neg(x1, w))
-    return np.stack(cols, axis=-1)
+    return np.stack((np.ones(shape), x1 - p1, p1 - p2, p2), axis=-1)
 
 
 def _candidates(t: np.ndarray, min_side: int, max_count: int) -> np.ndarray:
