@@ -181,6 +181,7 @@ class MetricSummary:
     ci: tuple[float, float]  # NaN when fewer than two sessions
     n: int  # values (rides or sessions)
     sessions: int
+    quartiles: tuple[float, float] = (math.nan, math.nan)  # 25th and 75th percentile of the values
 
 
 @dataclass(frozen=True)
@@ -408,13 +409,13 @@ def _board_summary(board, rides, sessions, ride_metrics, rules, rng, model_rows)
         vals = r.loc[ok, metric].to_numpy(float)
         clusters = r.loc[ok, "session_id"].to_numpy()
         med, lo, hi = cluster_median_ci(vals, clusters, rules, rng)
-        metrics[metric] = MetricSummary(metric, med, (lo, hi), int(vals.size), _n_unique(clusters))
+        metrics[metric] = MetricSummary(metric, med, (lo, hi), int(vals.size), _n_unique(clusters), _quartiles(vals))
     for metric in SESSION_METRICS:
         ok = s[metric].notna()
         vals = s.loc[ok, metric].to_numpy(float)
         ids = s.loc[ok, "session_id"].to_numpy()
         med, lo, hi = cluster_median_ci(vals, ids, rules, rng)
-        metrics[metric] = MetricSummary(metric, med, (lo, hi), int(vals.size), _n_unique(ids))
+        metrics[metric] = MetricSummary(metric, med, (lo, hi), int(vals.size), _n_unique(ids), _quartiles(vals))
     band = None
     if not model_rows.empty:
         mr = model_rows[model_rows["board"] == board]
@@ -987,6 +988,13 @@ def _n_unique(values) -> int:
     return int(pd.unique(pd.Series(values, dtype=object)).size) if len(values) else 0
 
 
+def _quartiles(values: np.ndarray) -> tuple[float, float]:
+    if values.size == 0:
+        return math.nan, math.nan
+    q25, q75 = np.percentile(values, [25, 75])
+    return float(q25), float(q75)
+
+
 def _finite_range(series) -> tuple[float, float]:
     v = pd.to_numeric(pd.Series(series), errors="coerce")
     v = v[np.isfinite(v)]
@@ -1118,7 +1126,8 @@ def to_jsonable(comparison: Comparison) -> dict:
     for s in comparison.boards:
         item = {"board": s.board, "rides": s.rides, "sessions": s.sessions, "riders": list(s.riders)}
         for name, m in s.metrics.items():
-            item[name] = {"median": num(m.median), "ci": ci(m.ci), "n": m.n, "sessions": m.sessions}
+            item[name] = {"median": num(m.median), "ci": ci(m.ci), "quartiles": ci(m.quartiles), "n": m.n,
+                          "sessions": m.sessions}
         item["missed_wave_share"] = num(s.missed_wave_share)
         item["planform_loading_npm2"] = num(s.planform_loading_npm2)
         item["litres_per_kg"] = num(s.litres_per_kg)

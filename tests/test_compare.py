@@ -337,6 +337,10 @@ def test_json_document_has_the_contract_keys():
     board = doc["boards"][0]
     assert isinstance(board["board"], str) and isinstance(board["rides"], int)
     assert set(board["onset_speed_mps"]) >= {"median", "ci"} and len(board["onset_speed_mps"]["ci"]) == 2
+    onsets = rides[rides.board == A].onset_speed_mps
+    assert board["onset_speed_mps"]["median"] == pytest.approx(onsets.median())
+    assert board["onset_speed_mps"]["quartiles"] == pytest.approx(list(onsets.quantile([0.25, 0.75])))
+    assert board["onset_speed_mps"]["n"] == onsets.size
     for d in doc["differences"]:
         assert set(d) >= {"metric", "a", "b", "estimate", "ci", "p_value", "verdict"}
         assert d["verdict"] in cmp.VERDICTS
