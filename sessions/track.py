@@ -57,6 +57,7 @@ class TrackMeta:
     n_points_raw: int = 0  # timed fixes found in the file before merging
     n_duplicates_merged: int = 0  # exact duplicate timestamps merged into one fix
     n_reordered: int = 0  # fixes that were out of time order in the file
+    n_untimed_dropped: int = 0  # track points without a time, left out
     gaps: tuple[Gap, ...] = field(default_factory=tuple)
     gap_threshold_s: float = DEFAULT_GAP_S
 
