@@ -98,7 +98,8 @@ class SessionAnalysis:
         The analysis grid: ``time`` (UTC), ``t_s`` (seconds since the first fix),
         ``x_m``, ``y_m`` (east/north of the session's local frame), ``speed_mps``,
         ``speed_sd_mps``, ``cross_shore_m`` (seaward of the estimated water's edge; NaN
-        when the shore direction is unknown), ``state`` (one of ``STATES``), ``ride``
+        when the shore direction is unknown), ``land_margin_m`` (distance beyond the
+        estimated land around the start and end points; negative on land), ``state`` (one of ``STATES``), ``ride``
         (index into :attr:`rides`, -1 outside rides), ``piece`` (gap-free piece).
     rides : list of Ride
     missed_waves : list of (start_s, end_s)
@@ -249,6 +250,7 @@ def analyse(track: Track, *, settings: AnalysisSettings | None = None) -> Sessio
             "speed_mps": gv,
             "speed_sd_mps": grid["speed_sd_mps"].to_numpy(),
             "cross_shore_m": shore.cross_shore_m(gx, gy) if shore.known else np.full(len(gt), np.nan),
+            "land_margin_m": shore.land_margin_m(gx, gy) if shore.known else np.full(len(gt), np.nan),
             "state": pd.Categorical.from_codes(labels.astype(np.int8), categories=list(STATES)),
             "ride": ride_idx,
             "piece": grid["piece"].to_numpy(),

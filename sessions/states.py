@@ -70,7 +70,7 @@ class StateModelSettings:
     ride_min_cos_shore: float = -0.35
     ride_cos_scale: float = 0.12
     # land/water logistic width across the water's edge [m]
-    edge_scale_m: float = 12.0
+    edge_scale_m: float = 8.0
     # net speed: straight-line displacement over a centred window / window length
     net_window_s: float = 16.0
     wait_net_median_mps: float = 0.22
@@ -94,10 +94,27 @@ class ShoreGeometry:
     seaward_y: float
     edge_m: float  # cross-shore distance of the water's edge from the origin [m]
     method: str  # "start_end" or "fast_motion" or "unknown"
+    beach_points: tuple[tuple[float, float], ...] = ()  # where the track starts and ends [m]
+    land_radius_m: float = 0.0  # the land is within this distance of a beach point [m]
 
     @property
     def known(self) -> bool:
         return self.method != "unknown"
+
+    def land_margin_m(self, x_m, y_m) -> np.ndarray:
+        """How far beyond the land [m]: positive in the water, negative on land.
+
+        With beach points (start/end method) the land is the disc of ``land_radius_m``
+        around each: a surfer walks from the beach point to the water and back, while
+        rides and paddling stay in the water even where they come close to the shore
+        farther along the beach. Otherwise the cross-shore distance is used.
+        """
+        x = np.asarray(x_m, dtype=float)
+        y = np.asarray(y_m, dtype=float)
+        if not self.beach_points:
+            return self.cross_shore_m(x, y)
+        r = np.min([np.hypot(x - bx, y - by) for bx, by in self.beach_points], axis=0)
+        return r - self.land_radius_m
 
     def cross_shore_m(self, x_m, y_m) -> np.ndarray:
         """Distance seaward of the water's edge [m] (negative on land)."""
@@ -129,9 +146,7 @@ def label_states(
     than the instantaneous speed, whose noise floor is a few tenths of a m/s.
     """
     s = settings or StateModelSettings()
-    loglik = emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry, s)
-    if net_speed_mps is not None:
-        loglik = loglik + net_speed_loglik(net_speed_mps, s)
+    loglik = emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry, s, net_speed_mps)
     log_a = transition_logprob(s, step_s)
     log_pi = np.log(np.array([0.55, 0.25, 0.15, 0.05]))
     return viterbi(log_pi, log_a, loglik)
@@ -156,10 +171,10 @@ def estimate_shore(x_m, y_m, speed_mps, vx_mps, vy_mps, *, min_offset_m: float =
     Common practice, no published source: a surf session begins and ends on the beach,
     and most of its time is spent beyond the breakers (waiting) or paddling. The beach
     point is the mean of the first and last 30 s of positions; the sea is toward the
-    median position. The water's edge is placed where the surfer first stops walking
-    and the speed pattern turns to paddling: estimated as the cross-shore distance
-    reached before the first sustained slow spell, bounded to [0, 40 %] of the median
-    offset.
+    median position. The land is taken as a disc around the start and end points whose
+    radius comes from :func:`_water_edge` applied to the distance from those points
+    (the same rule gives the water's edge across the shore, used for
+    ``cross_shore_m``).
     """
     x = np.asarray(x_m, dtype=float)
     y = np.asarray(y_m, dtype=float)
@@ -180,7 +195,10 @@ def estimate_shore(x_m, y_m, speed_mps, vx_mps, vy_mps, *, min_offset_m: float =
         with np.errstate(invalid="ignore", divide="ignore"):
             toward = -(np.asarray(vx_mps) * ux + np.asarray(vy_mps) * uy) / np.maximum(v, 1e-9)
         edge = _water_edge(d, v, toward, off)
-        return ShoreGeometry(bx, by, ux, uy, edge, "start_end")
+        points = ((float(np.mean(x[:k])), float(np.mean(y[:k]))), (float(np.mean(x[-k:])), float(np.mean(y[-k:]))))
+        r = np.min([np.hypot(x - px, y - py) for px, py in points], axis=0)
+        radius = _water_edge(r, v, toward, off)
+        return ShoreGeometry(bx, by, ux, uy, edge, "start_end", points, radius)
     # fall back: fast motion (rides) runs shoreward
     fast = v > 3.0
     if int(fast.sum()) >= 5:
@@ -197,7 +215,7 @@ def estimate_shore(x_m, y_m, speed_mps, vx_mps, vy_mps, *, min_offset_m: float =
 
 
 def _water_edge(d: np.ndarray, v: np.ndarray, toward_shore: np.ndarray, offset_m: float) -> float:
-    """Cross-shore distance of the water's edge from the beach point [m].
+    """Distance of the water's edge from the beach point [m] along a measure ``d``.
 
     Common practice, no published source: rides finish in the water, so the edge lies
     landward of the shallowest point reached at riding speed (``v > 3 m/s`` heading
@@ -214,25 +232,29 @@ def _water_edge(d: np.ndarray, v: np.ndarray, toward_shore: np.ndarray, offset_m
     return float(min(max(edge, 0.0), 0.25 * offset_m))
 
 
-def emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry: ShoreGeometry, s: StateModelSettings) -> np.ndarray:
-    """Log-likelihood of each grid step's observations under each state, shape (n, 4)."""
+def emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry: ShoreGeometry, s: StateModelSettings,
+                    net_speed_mps=None) -> np.ndarray:
+    """Log-likelihood of each grid step's observations under each state, shape (n, 4).
+
+    The shore state is a mixture of standing, walking and riding in a vehicle; with a
+    net speed the mixture is over the joint likelihood of both speeds (one component
+    explains both).
+    """
     v = np.maximum(np.asarray(speed_mps, dtype=float), 0.02)
-    lv = np.log(v)
     n = len(v)
     out = np.empty((n, 4))
-
-    def lognorm(median, sd):
-        z = (lv - math.log(median)) / sd
-        return -0.5 * z * z - math.log(sd * math.sqrt(2 * math.pi))
-
-    out[:, WAIT] = lognorm(s.wait_speed_median_mps, s.wait_speed_log_sd)
-    out[:, PADDLE] = lognorm(s.paddle_speed_median_mps, s.paddle_speed_log_sd)
-    out[:, RIDE] = lognorm(s.ride_speed_median_mps, s.ride_speed_log_sd)
-    # shore: standing, walking, or in a vehicle (log-uniform 2-45 m/s)
-    stand = lognorm(s.wait_speed_median_mps, s.wait_speed_log_sd)
-    walk = lognorm(s.shore_walk_median_mps, 0.35)
-    vehicle = np.where((v > 2.0) & (v < 45.0), -math.log(math.log(45.0 / 2.0)), -30.0)
-    out[:, SHORE] = np.logaddexp(np.logaddexp(math.log(0.5) + stand, math.log(0.4) + walk), math.log(0.1) + vehicle)
+    speed_ll = _speed_components(v, s, net=False)
+    if net_speed_mps is not None:
+        u = np.maximum(np.asarray(net_speed_mps, dtype=float), 0.02)
+        net_ll = _speed_components(u, s, net=True)
+        speed_ll = {key: speed_ll[key] + net_ll[key] for key in speed_ll}
+    out[:, WAIT] = speed_ll["wait"]
+    out[:, PADDLE] = speed_ll["paddle"]
+    out[:, RIDE] = speed_ll["ride"]
+    out[:, SHORE] = np.logaddexp(
+        np.logaddexp(math.log(0.5) + speed_ll["stand"], math.log(0.4) + speed_ll["walk"]),
+        math.log(0.1) + speed_ll["vehicle"],
+    )
 
     if geometry.known:
         c = geometry.cos_shoreward(vx_mps, vy_mps)
@@ -247,7 +269,7 @@ def emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry: ShoreGeometry
         out[:, RIDE] += np.logaddexp(np.log(np.maximum(w, 1e-12)) + log_sig - norm, np.log(np.maximum(1 - w, 1e-12)) + math.log(0.5))
         for k in (SHORE, PADDLE, WAIT):
             out[:, k] += math.log(0.5)
-        d = geometry.cross_shore_m(x_m, y_m)
+        d = geometry.land_margin_m(x_m, y_m)
         zl = d / s.edge_scale_m
         log_land = -np.logaddexp(0.0, zl)  # log sigmoid(-d/scale)
         log_water = -np.logaddexp(0.0, -zl)
@@ -255,6 +277,27 @@ def emission_loglik(speed_mps, vx_mps, vy_mps, x_m, y_m, geometry: ShoreGeometry
         for k in (PADDLE, WAIT, RIDE):
             out[:, k] += log_water
     return out
+
+
+def _speed_components(v: np.ndarray, s: StateModelSettings, net: bool) -> dict[str, np.ndarray]:
+    """Log-densities of log-speed per state and per shore component."""
+    lv = np.log(v)
+
+    def lognorm(median, sd):
+        z = (lv - math.log(median)) / sd
+        return -0.5 * z * z - math.log(sd * math.sqrt(2 * math.pi))
+
+    if net:
+        wait = lognorm(s.wait_net_median_mps, s.wait_net_log_sd)
+        paddle = lognorm(s.paddle_net_median_mps, s.paddle_net_log_sd)
+        ride = lognorm(s.ride_net_median_mps, s.ride_net_log_sd)
+    else:
+        wait = lognorm(s.wait_speed_median_mps, s.wait_speed_log_sd)
+        paddle = lognorm(s.paddle_speed_median_mps, s.paddle_speed_log_sd)
+        ride = lognorm(s.ride_speed_median_mps, s.ride_speed_log_sd)
+    walk = lognorm(s.shore_walk_median_mps, 0.35)
+    vehicle = np.where((v > 2.0) & (v < 45.0), -math.log(math.log(45.0 / 2.0)), -30.0)
+    return {"wait": wait, "paddle": paddle, "ride": ride, "stand": wait, "walk": walk, "vehicle": vehicle}
 
 
 def net_speed(t_s, x_m, y_m, piece, window_s: float) -> np.ndarray:
@@ -281,26 +324,6 @@ def net_speed(t_s, x_m, y_m, piece, window_s: float) -> np.ndarray:
         dt = tt[j1] - tt[j0]
         d = np.hypot(x[a:b][j1] - x[a:b][j0], y[a:b][j1] - y[a:b][j0])
         out[a:b] = np.where(dt > 0, d / np.where(dt > 0, dt, 1.0), 0.0)
-    return out
-
-
-def net_speed_loglik(net_speed_mps, s: StateModelSettings) -> np.ndarray:
-    """Log-likelihood of the net speed under each state, shape (n, 4)."""
-    u = np.maximum(np.asarray(net_speed_mps, dtype=float), 0.02)
-    lu = np.log(u)
-
-    def lognorm(median, sd):
-        z = (lu - math.log(median)) / sd
-        return -0.5 * z * z - math.log(sd * math.sqrt(2 * math.pi))
-
-    out = np.empty((len(u), 4))
-    out[:, WAIT] = lognorm(s.wait_net_median_mps, s.wait_net_log_sd)
-    out[:, PADDLE] = lognorm(s.paddle_net_median_mps, s.paddle_net_log_sd)
-    out[:, RIDE] = lognorm(s.ride_net_median_mps, s.ride_net_log_sd)
-    stand = lognorm(s.wait_net_median_mps, s.wait_net_log_sd)
-    walk = lognorm(s.shore_walk_median_mps, 0.35)
-    vehicle = np.where((u > 2.0) & (u < 45.0), -math.log(math.log(45.0 / 2.0)), -30.0)
-    out[:, SHORE] = np.logaddexp(np.logaddexp(math.log(0.5) + stand, math.log(0.4) + walk), math.log(0.1) + vehicle)
     return out
 
 

@@ -99,6 +99,9 @@ def test_estimate_shore_from_start_and_end_on_the_beach():
     assert geo.method == "start_end"
     assert math.degrees(math.acos(geo.seaward_x * ux + geo.seaward_y * uy)) < 5.0
     assert 0.0 <= geo.edge_m <= 60.0
+    # the start point is on land, the line-up in the water
+    margin = geo.land_margin_m(np.array([x[0], 200 * ux]), np.array([y[0], 200 * uy]))
+    assert margin[0] < 0 < margin[1]
     # seaward motion has cosine -1 with the shoreward direction
     assert geo.cos_shoreward(np.array([ux]), np.array([uy]))[0] == pytest.approx(-1.0)
 
