@@ -216,6 +216,9 @@ def test_cli_analyse_json_and_summary(tmp_path, capsys):
     out = capsys.readouterr().out
     assert "rides" in out and "surf within your ability" in out
     assert len([ln for ln in out.splitlines() if ln[:3].strip().isdigit()]) == doc["session"]["rides"]
+    assert main(["analyse", str(path), "--states"]) == 0
+    out = capsys.readouterr().out
+    assert sum(ln.strip().endswith(("shore", "paddle", "wait", "ride")) for ln in out.splitlines()) == len(doc["states"])
 
 
 def test_cli_missing_file_exits_2(tmp_path, capsys):
