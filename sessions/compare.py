@@ -251,6 +251,7 @@ class Comparison:
     rides: pd.DataFrame = field(repr=False)  # selected rides of the chosen boards (+ load terms)
     fit_rides: pd.DataFrame = field(repr=False)  # rides that entered the load fit
     sessions: pd.DataFrame = field(repr=False)
+    notes: tuple[str, ...] = ()  # warnings about the fairness of the comparison
     caution: str = CAUTION
 
 
@@ -351,7 +352,22 @@ def compare_boards(
         rides=sel_rides,
         fit_rides=fit_rides,
         sessions=sel_sessions,
+        notes=fairness_notes(summaries),
     )
+
+
+def fairness_notes(summaries: Sequence[BoardSummary]) -> tuple[str, ...]:
+    """Plain warnings when the boards were not ridden by the same riders."""
+    ref = summaries[0]
+    notes = []
+    for s in summaries[1:]:
+        if set(s.riders) != set(ref.riders):
+            notes.append(
+                f"{ref.board} was ridden by {', '.join(ref.riders) or 'nobody'} and {s.board} by "
+                f"{', '.join(s.riders) or 'nobody'}: raw differences mix board and rider; the "
+                "load-adjusted onset corrects for load only. Use --rider to compare like with like."
+            )
+    return tuple(notes)
 
 
 def campaign_table(rides: pd.DataFrame, sessions: pd.DataFrame, model: str) -> pd.DataFrame:
@@ -1167,6 +1183,7 @@ def to_jsonable(comparison: Comparison) -> dict:
         "wave_bands": [diff(d) for d in comparison.strata],
         "load_fit": load_fit,
         "load_fit_note": comparison.load_fit_note or None,
+        "notes": list(comparison.notes),
         "model": model,
         "caution": comparison.caution,
     }

@@ -219,7 +219,7 @@ def summary_figure(comparison: Comparison) -> Figure:
     ax2 = fig.add_axes((0.10, 0.085, 0.84, h_ld))
     draw_onset_vs_loading(ax2, comparison)
 
-    notes = [comparison.caution]
+    notes = [comparison.caution, *comparison.notes]
     if comparison.load_fit_note:
         notes.append(comparison.load_fit_note)
     r = comparison.rules

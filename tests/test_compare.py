@@ -353,6 +353,8 @@ def test_three_boards_compare_each_to_the_first():
     c = cmp.compare_boards(rides, sessions, cmp.Selection(boards=(A, B, "Petrel 6'4")), FAST)
     pairs = {(d.a, d.b) for d in c.differences}
     assert pairs == {(A, B), (A, "Petrel 6'4")}
+    # A and B share their rider; Petrel was ridden by someone else: one note, naming both
+    assert len(c.notes) == 1 and "Petrel 6'4 by Ines" in c.notes[0] and "--rider" in c.notes[0]
 
 
 def test_results_are_reproducible_with_the_seed():

@@ -236,6 +236,8 @@ def format_comparison(comparison) -> str:
         )
     else:
         lines += ["", "Planing model: no band (the boards need length, width and mass in the library)."]
+    if comparison.notes:
+        lines += [""] + [f"Note: {n}" for n in comparison.notes]
     r = comparison.rules
     lines += ["", f"Rules: a verdict needs at least {r.min_rides} rides from {r.min_sessions} sessions per board "
                   f"({r.min_session_values} sessions for per-session figures), an interval clear of 0 and "
