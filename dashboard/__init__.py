@@ -11,8 +11,8 @@ from __future__ import annotations
 
 
 def serve(url: str | None = None, *, host: str = "127.0.0.1", port: int | None = None) -> int:
-    """Run the dashboard until Ctrl-C (see :func:`dashboard.serve.serve`)."""
-    from dashboard.serve import serve as _serve
+    """Run the dashboard until Ctrl-C (see :func:`dashboard.server.serve`)."""
+    from dashboard.server import serve as _serve
 
     return _serve(url, host=host, port=port)
 

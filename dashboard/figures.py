@@ -104,7 +104,7 @@ def speed_figure(samples: pd.DataFrame, rides: list[dict], units: DisplayUnits,
     _style(ax)
     t_min = samples["t_s"].to_numpy(float) / 60.0
     v = np.asarray(units.speed_value(samples["speed_mps"].to_numpy(float)))
-    ax.plot(t_min, v, color=palette.INK, lw=0.7, alpha=0.85)
+    ax.plot(t_min, v, color=palette.MUTED, lw=0.6, alpha=0.9)
     timed = ride_offsets_s(samples, rides)
     for r in timed:
         a = r["catch_start_s"] if math.isfinite(r["catch_start_s"]) else r["start_s"]

@@ -22,6 +22,6 @@ STATE_COLOURS = {
 }
 #: Plain words for the states, as the pages show them.
 STATE_WORDS = {"shore": "on shore", "paddle": "paddling", "wait": "waiting", "ride": "riding"}
-ONSET = INK
+ONSET = "#123c45"  # deep teal-black: onset marks stand out from the grey speed trace
 #: Colours of the boards in a comparison, in order (A first).
 BOARD_COLOURS = ("#2f6f73", "#d9643a", "#6b5b95", "#8a9a3b", "#b0707a", "#4d7ea8")

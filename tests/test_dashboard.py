@@ -113,6 +113,7 @@ def test_review_shows_the_stored_rides_of_a_chosen_session(app, library_url):
     got = [None if pd.isna(v) else v for v in table["planing onset [m/s]"]]
     assert got == pytest.approx(expected)
     assert list(table["distance [m]"]) == [round(r["distance_m"]) for r in detail["ride_list"]]
+    assert list(table["time [s]"]) == [round(r["duration_s"], 1) for r in detail["ride_list"]]
     assert len(app.get("image")) == 2  # the path and the speed pictures
 
 

@@ -83,27 +83,29 @@ if not drawing.matches_stored:
             f"(stored by analysis version {detail['analysis_version']}, installed {drawing.analysis_version}). "
             "The table and the onset marks show the stored rides; `floatlift reanalyse --all` refreshes them.")
 
-left, right = st.columns([5, 6])
+left, right = st.columns([2, 3])
 with left:
     st.markdown("**Path by activity** (metres from the session's centre)")
     st.image(data.track_picture(url, sid, detail["sha256"]), width="stretch")
 with right:
     st.markdown("**Rides**")
+    sym = units.speed_symbol
     table = pd.DataFrame([{
         "ride": r["index"] + 1,
         "start (UTC)": pd.Timestamp(r["start"]).tz_convert("UTC").strftime("%H:%M:%S"),
-        "duration [s]": round(r["duration_s"], 1),
+        "time [s]": round(r["duration_s"], 1),
         "distance [m]": round(r["distance_m"]),
-        f"peak speed [{units.speed_symbol}]": round(units.speed_value(r["peak_speed_mps"]), 1),
-        f"planing onset [{units.speed_symbol}]": (None if r["onset_speed_mps"] is None
-                                                  else round(units.speed_value(r["onset_speed_mps"]), 2)),
-        "onset interval": (units.speed_range(*r["onset_ci_mps"], digits=2) if r.get("onset_ci_mps")
-                           else (r.get("onset_reason") or du.MISSING)),
+        f"peak [{sym}]": round(units.speed_value(r["peak_speed_mps"]), 1),
+        f"planing onset [{sym}]": (None if r["onset_speed_mps"] is None
+                                   else round(units.speed_value(r["onset_speed_mps"]), 2)),
+        f"onset interval [{sym}]": (f"{units.speed_value(r['onset_ci_mps'][0]):.2f}–"
+                                    f"{units.speed_value(r['onset_ci_mps'][1]):.2f}" if r.get("onset_ci_mps")
+                                    else (r.get("onset_reason") or du.MISSING)),
     } for r in rides])
     if table.empty:
         st.info("No rides were found in this session.")
     else:
-        st.dataframe(table, hide_index=True, key="ride_table")
+        st.dataframe(table, hide_index=True, key="ride_table", height=min(35 * (len(table) + 1) + 3, 1000))
 
 st.markdown("**Speed and planing onsets**")
 zoom_options = [None, *[r["index"] for r in rides]]
