@@ -210,15 +210,6 @@ def summary_figure(comparison: Comparison) -> Figure:
         fig.text(0.05, top, "Onset by wave face height:\n" + "\n".join(lines), fontsize=6.5, va="top")
         top -= 0.011 * (len(lines) + 1) + 0.01
 
-    # the two figures share what is left above the notes
-    space = top - 0.075
-    h_on = space * min(0.5, 0.28 + 0.05 * len(comparison.boards)) - 0.045
-    ax1 = fig.add_axes((0.22, top - 0.045 - h_on, 0.72, h_on))
-    draw_onset_by_board(ax1, comparison)
-    h_ld = top - 0.045 - h_on - 0.08 - 0.085
-    ax2 = fig.add_axes((0.10, 0.085, 0.84, h_ld))
-    draw_onset_vs_loading(ax2, comparison)
-
     notes = [comparison.caution, *comparison.notes]
     if comparison.load_fit_note:
         notes.append(comparison.load_fit_note)
@@ -228,7 +219,18 @@ def summary_figure(comparison: Comparison) -> Figure:
         f"on session medians; verdict needs interval excluding 0 and p < {r.alpha:g}; at least {r.min_rides} "
         f"rides from {r.min_sessions} sessions per board (session metrics: {r.min_session_values} sessions)."
     )
-    fig.text(0.05, 0.035, "\n".join(textwrap.fill(n, 130) for n in notes), fontsize=6.5, va="top")
+    note_text = "\n".join(textwrap.fill(n, 130) for n in notes)
+    fig.text(0.05, 0.012, note_text, fontsize=6.5, va="bottom")
+    bottom = 0.012 + 0.0105 * (note_text.count("\n") + 1) + 0.05  # notes, then the x label
+
+    # the two figures share what is left between the tables and the notes
+    space = top - bottom
+    h_on = space * min(0.5, 0.28 + 0.05 * len(comparison.boards)) - 0.045
+    ax1 = fig.add_axes((0.22, top - 0.045 - h_on, 0.72, h_on))
+    draw_onset_by_board(ax1, comparison)
+    h_ld = top - 0.045 - h_on - 0.08 - bottom
+    ax2 = fig.add_axes((0.10, bottom, 0.84, h_ld))
+    draw_onset_vs_loading(ax2, comparison)
     return fig
 
 
