@@ -81,9 +81,12 @@ MARGIN_AFTER_PEAK_S = 3.0
 #: Blur widths tried on a smoothed speed series [s] (standard deviation of the Gaussian
 #: kernel the smoother is modelled by; 0 is no blur).
 BLUR_WIDTHS_S = (0.0, 0.5, 1.0, 1.5)
-#: Durations of the planing acceleration tried [s]; one longer than the window makes
-#: the model two-phase.
+#: Durations of the planing acceleration tried on a smoothed speed [s]; one longer than
+#: the window makes the model two-phase.
 DURATIONS_S = (0.4, 0.8, 1.4, 2.4, 4.0, 6.5, 1.0e3)
+#: Durations tried on a device speed [s]: finer, since its sharp changes show them
+#: (and it is fitted without blur widths, so the finer grid costs no more).
+DURATIONS_RAW_S = (0.3, 0.5, 0.8, 1.1, 1.5, 2.0, 2.7, 3.6, 5.0, 7.0, 1.0e3)
 #: Most candidate onsets per profile.
 MAX_CANDIDATES = 40
 #: A smoothed series is thinned to at most this many samples per second before the fit
@@ -91,6 +94,8 @@ MAX_CANDIDATES = 40
 MAX_RATE_SMOOTHED_HZ = 2.5
 #: The bootstrap refits at the best blur width plus this many neighbours each side.
 BOOT_WIDTH_SPAN = 0
+#: The bootstrap refits at the best duration plus this many neighbours each side.
+BOOT_DURATION_SPAN = 1
 #: Extra spread of the onset speed [m/s] and instant [s] when only a smoothed speed is
 #: available: position-only speeds carry slowly varying GNSS errors and the smoother's
 #: lag, which the fit's residuals cannot show. Calibrated on simulated sessions with
@@ -302,7 +307,7 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     if len(cand) < 3:
         return _none(REASON_TOO_FEW, f"{n} samples leave no room for a break with {MIN_SIDE} samples each side")
     widths = np.asarray(BLUR_WIDTHS_S if src == "smoothed" else (0.0,))
-    durations = np.asarray(DURATIONS_S)
+    durations = np.asarray(DURATIONS_S if src == "smoothed" else DURATIONS_RAW_S)
 
     design = phase_design(tc, cand, durations, widths)  # (W, D, M, n, 4)
     grid_shape = design.shape[:3]
@@ -351,7 +356,7 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     ystar = fitted[None, :] + _ou_noise(tc, sigma, corr_time, N_BOOT, rng)  # (B, n)
     iw, idur = int(fit["iw"][0]), int(fit["idur"][0])
     sw = slice(max(iw - BOOT_WIDTH_SPAN, 0), iw + BOOT_WIDTH_SPAN + 1)
-    sdur = slice(max(idur - 1, 0), idur + 2)
+    sdur = slice(max(idur - BOOT_DURATION_SPAN, 0), idur + BOOT_DURATION_SPAN + 1)
     sub = np.arange(design.shape[0]).reshape(grid_shape)[sw, sdur, :]
     sub_shape = sub.shape
     sub = sub.reshape(-1)
