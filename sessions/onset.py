@@ -80,7 +80,7 @@ MAX_FIRST_DECEL_MPS2 = 0.05
 MARGIN_AFTER_PEAK_S = 3.0
 #: Blur widths tried on a smoothed speed series [s] (standard deviation of the Gaussian
 #: kernel the smoother is modelled by; 0 is no blur).
-BLUR_WIDTHS_S = (0.0, 0.5, 1.0, 1.5)
+BLUR_WIDTHS_S = (0.0, 0.5, 1.0)
 #: Durations of the planing acceleration tried on a smoothed speed [s]; one longer than
 #: the window makes the model two-phase.
 DURATIONS_S = (0.4, 0.8, 1.4, 2.4, 4.0, 6.5, 1.0e3)
@@ -323,10 +323,7 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     fit = _best_fits(design, gram_inv, ok, y[None, :], cand, grid_shape, n_params)
     if fit["flat"][0] < 0:
         return _none(REASON_NO_CHANGE, "no fit with a steady or rising first phase")
-    tau = float(fit["tau"][0])
-    onset_speed = float(fit["speed"][0])
-    beta = fit["coef"][:, 0]
-    fitted = design[int(fit["flat"][0])] @ beta
+    tau, onset_speed, beta, fitted = _polish(tc, y, cand, widths, durations, fit)
     b1, b2 = float(beta[1]), float(beta[2])
 
     # dropout at the change
@@ -394,6 +391,38 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
 
 
 # --- pure functions -----------------------------------------------------------------
+def _polish(tc, y, cand, widths, durations, fit):
+    """Refine the onset on a fine local grid at the chosen blur width.
+
+    The profile over onsets is kinked at the samples, so the parabola through the
+    coarse grid can miss its minimum; 21 onsets spanning the neighbouring coarse grid
+    points are refitted with 9 durations spanning the neighbouring grid durations (and
+    "none" if it is a neighbour), and the best by the same criterion kept, with its own
+    parabolic refinement. Returns the onset,
+    the speed there, the coefficients and the fitted curve.
+    """
+    j = int(fit["flat"][0]) % len(cand)
+    lo, hi = cand[max(j - 1, 0)], cand[min(j + 1, len(cand) - 1)]
+    fine = np.linspace(lo, hi, 21)
+    iw, idur = int(fit["iw"][0]), int(fit["idur"][0])
+    w = widths[iw : iw + 1]
+    near = durations[max(idur - 1, 0) : idur + 2]
+    finite = near[near < 1e3]
+    d = np.geomspace(finite.min(), finite.max(), 9) if len(finite) > 1 else finite
+    if (near >= 1e3).any():
+        d = np.append(d, 1e3)
+    design = phase_design(tc, fine, d, w).reshape(len(d) * len(fine), len(tc), -1)
+    gram_inv, ok = _gram_inverse(design)
+    k = 4 + 2 * (d < 1e3) + (w[0] > 0)
+    res = _best_fits(design, gram_inv, ok, y[None, :], fine, (1, len(d), len(fine)), k)
+    if res["flat"][0] < 0:  # keep the coarse fit
+        coarse = phase_design(tc, cand[j : j + 1], d, w).reshape(1, len(tc), -1)[0]
+        beta = fit["coef"][:, 0]
+        return float(fit["tau"][0]), float(fit["speed"][0]), beta, coarse @ beta
+    beta = res["coef"][:, 0]
+    return float(res["tau"][0]), float(res["speed"][0]), beta, design[int(res["flat"][0])] @ beta
+
+
 def _generator(seed) -> np.random.Generator:
     """Random generator for a seed; a seed numpy cannot use is folded into one it can."""
     try:
