@@ -66,7 +66,7 @@ from sessions.track import (
     TrackMeta,
 )
 
-__all__ = ["read_gpx", "DEFAULT_MAX_BYTES", "GPX10_NS", "GPX11_NS"]
+__all__ = ["read_gpx", "track_summary", "DEFAULT_MAX_BYTES", "GPX10_NS", "GPX11_NS"]
 
 #: Default size limit of a GPX document (decompressed) [bytes].
 DEFAULT_MAX_BYTES = 200 * 1024 * 1024
@@ -504,97 +504,35 @@ def _extract_careful(root, info: _RootInfo) -> _RawPoints:
 
 
 # --- fast path ---------------------------------------------------------------------
-# _TOKEN_SPLIT_RE cuts the document into the tags the extraction cares about (tokens, in
-# their common form) and the bytes between them (gaps). The alternation's last branch
-# catches any other form of the same names (attributes, self-closing, nested markup),
-# which sends the document to the careful path. Element depth comes from counting tag
-# openings and closings in the gaps, so each token's place in the tree is known without
-# building the tree.
-_TOKEN_SPLIT_RE = re.compile(
-    rb"(<trkpt\s[^>]*(?<!/)>|</trkpt>"
-    rb"|<trkseg\s*>|</trkseg>"
-    rb"|<trk\s*>|</trk>"
-    rb"|<extensions\s*>|</extensions>"
-    rb"|<time>[^<]*</time>"
-    rb"|<ele>[^<]*</ele>"
-    rb"|<(?:[A-Za-z_][\w.-]*:)?speed>[^<]*</(?:[A-Za-z_][\w.-]*:)?speed>"
-    rb"|<(?:trkpt|trkseg|trk|extensions|time|ele)[\s/>])"
-)
-#: Tokens of the catch-all branch end in whitespace or '/', or are one of these.
-_ODD_ENDINGS = (b" ", b"\t", b"\n", b"\r", b"/")
-_ODD_TOKENS = (b"<trkpt>", b"<time>", b"<ele>")
+# The byte scan works on the positions of all '<' and '>' in the document (numpy). Once
+# the screens have ruled out comments, CDATA, processing instructions and any '>' outside
+# a tag end, every '<' opens exactly one tag and the next '>' closes it, so tag names,
+# start/end/empty kinds and the element depth of every tag follow by vectorised
+# arithmetic, and the text of a childless element lies between its '>' and the next '<'.
+_IS_WS = np.zeros(256, dtype=bool)
+_IS_WS[[ord(c) for c in " \t\n\r"]] = True
+_IS_DELIM = _IS_WS.copy()
+_IS_DELIM[[ord("/"), ord(">")]] = True
+_HEAD = 16  # bytes after each '<' looked at for the tag name
+_NAME_RE = re.compile(rb"[^\s/>]+")
 _PT_RE = re.compile(rb'<trkpt\s+(?:lat="([^"&<]*)"\s+lon="([^"&<]*)"|lon="([^"&<]*)"\s+lat="([^"&<]*)")\s*>')
-_SPEED_RE = re.compile(rb">([^<]*)</")
-# token kinds and their change of element depth
-_K_PT, _K_PT_END, _K_SEG, _K_SEG_END, _K_TRK, _K_TRK_END = 1, 2, 3, 4, 5, 6
-_K_EXT, _K_EXT_END, _K_TIME, _K_ELE, _K_SPEED = 7, 8, 9, 10, 11
-_DEPTH_STEP = np.array([0, 1, -1, 1, -1, 1, -1, 1, -1, 0, 0, 0], dtype=np.int64)
 
 
 class _NoFastPath(Exception):
     """The screens found something the byte scan cannot see exactly; use the tree."""
 
 
-def _classify(tokens: list[bytes]) -> tuple[np.ndarray, np.ndarray]:
-    """Kind code and first 12 bytes of each token (vectorised)."""
-    head = np.array(tokens, dtype="S12")
-    # a catch-all token has no '<' after the first byte; a long common token cut at 12
-    # bytes rarely looks like one (and then merely takes the careful path)
-    single = np.strings.count(head, b"<") == 1
-    for end in _ODD_ENDINGS:
-        if (np.strings.endswith(head, end) & single).any():
-            raise _NoFastPath("track tags of an uncommon form")
-    for odd in _ODD_TOKENS:
-        if (head == odd).any():
-            raise _NoFastPath("track tags of an uncommon form")
-    sw = np.strings.startswith
-    kind = np.full(len(tokens), _K_SPEED, dtype=np.int8)
-    for mask, code in (
-        (sw(head, b"<trk"), _K_TRK),
-        (sw(head, b"<trkseg"), _K_SEG),
-        (sw(head, b"<trkpt"), _K_PT),
-        (head == b"</trk>", _K_TRK_END),
-        (head == b"</trkseg>", _K_SEG_END),
-        (head == b"</trkpt>", _K_PT_END),
-        (sw(head, b"<extensions"), _K_EXT),
-        (sw(head, b"</extension"), _K_EXT_END),
-        (sw(head, b"<time>"), _K_TIME),
-        (sw(head, b"<ele>"), _K_ELE),
-    ):
-        kind[mask] = code
-    return kind, head
-
-
-def _gap_depth_change(gaps: list[bytes], has_decl: bool) -> np.ndarray:
-    """Net element depth change inside each gap: +1 per start tag, -1 per end tag.
-
-    The screens have ruled out comments, CDATA, processing instructions and DTDs, and XML
-    allows no raw '<' in text or attribute values, so every '<' in a gap opens a tag.
-    """
-    joined = np.frombuffer(b"\x00".join(gaps), dtype=np.uint8)  # XML text holds no NUL
-    sep = np.flatnonzero(joined == 0)
-    lt = np.flatnonzero(joined == ord("<"))
-    closing = joined[np.minimum(lt + 1, len(joined) - 1)] == ord("/")
-    empty = np.flatnonzero((joined[:-1] == ord("/")) & (joined[1:] == ord(">")))
-    n = len(gaps)
-    change = np.bincount(np.searchsorted(sep, lt), weights=np.where(closing, -1.0, 1.0), minlength=n)
-    change -= np.bincount(np.searchsorted(sep, empty), minlength=n)
-    if has_decl:
-        change[0] -= 1
-    return np.rint(change).astype(np.int64)
-
-
-def _pairs(kind: np.ndarray, open_code: int, close_code: int) -> tuple[np.ndarray, np.ndarray]:
-    """Token indices of start and end tags of one element type; checks flat nesting."""
-    starts = np.flatnonzero(kind == open_code)
-    ends = np.flatnonzero(kind == close_code)
+def _pairs(opens: np.ndarray, closes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Tag indices of start and end tags of one element type; checks flat nesting."""
+    starts = np.flatnonzero(opens)
+    ends = np.flatnonzero(closes)
     if len(starts) != len(ends) or np.any(ends < starts) or np.any(starts[1:] < ends[:-1]):
         raise _NoFastPath("elements nest, overlap or do not pair")
     return starts, ends
 
 
 def _owner(pos: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> np.ndarray:
-    """Index of the interval holding each token position, -1 where none does."""
+    """Index of the interval holding each tag index, -1 where none does."""
     if len(starts) == 0:
         return np.full(len(pos), -1, dtype=np.int64)
     k = np.searchsorted(starts, pos, side="right") - 1
@@ -610,6 +548,61 @@ def _extract_fast(data: bytes, info: _RootInfo) -> _RawPoints | None:
         return None
 
 
+class _Tags:
+    """Positions, names and depths of all tags of a screened document."""
+
+    def __init__(self, data: bytes):
+        arr = np.frombuffer(data + b" " * (_HEAD + 1), dtype=np.uint8)  # padded for the windows
+        lt = np.flatnonzero(arr == ord("<"))
+        gt = np.flatnonzero(arr == ord(">"))
+        if len(lt) != len(gt) or len(lt) == 0 or np.any(gt < lt) or np.any(lt[1:] < gt[:-1]):
+            raise _NoFastPath("'>' outside tag ends")
+        self.data, self.arr, self.lt, self.gt = data, arr, lt, gt
+        self.win = np.ascontiguousarray(np.lib.stride_tricks.sliding_window_view(arr, _HEAD)[lt + 1])
+        self.win64 = self.win.view("<u8")  # two 8-byte words per tag
+        second = arr[lt + 1]
+        self.closing = second == ord("/")
+        self.empty = arr[gt - 1] == ord("/")
+        decl = second == ord("?")
+        step = np.where(self.closing, -1, np.where(self.empty | decl, 0, 1))
+        if step.sum() != 0:
+            raise _NoFastPath("depth count does not return to zero")
+        self.depth = np.cumsum(step) - step  # 0 for the root element, 1 for its children
+
+    def named(self, name: bytes, *, closing: bool = False) -> np.ndarray:
+        """Mask of start (or end) tags with exactly this name (up to 15 bytes)."""
+        key = (b"/" if closing else b"") + name
+        size = len(key)
+        want = np.frombuffer(key.ljust(_HEAD, b"\0"), dtype="<u8")
+        mask = np.frombuffer((b"\xff" * size).ljust(_HEAD, b"\0"), dtype="<u8")
+        w = self.win64
+        return ((w[:, 0] & mask[0]) == want[0]) & ((w[:, 1] & mask[1]) == want[1]) & _IS_DELIM[self.win[:, size]]
+
+    def names(self, idx: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Names of some tags (cut at the first delimiter) and whether they are longer."""
+        rows = self.win[idx].copy()
+        delim = _IS_DELIM[rows]
+        delim[:, 0] = False  # '/' of an end tag
+        found = delim.any(axis=1)
+        size = np.where(found, delim.argmax(axis=1), _HEAD)
+        rows[np.arange(_HEAD)[None, :] >= size[:, None]] = 0
+        return rows.view(f"S{_HEAD}").ravel(), ~found
+
+    def gather(self, first: np.ndarray, last: np.ndarray) -> bytes:
+        """The bytes of the ranges ``first[i]..last[i]`` (inclusive), concatenated."""
+        lengths = last - first + 1
+        if len(lengths) == 0:
+            return b""
+        offsets = np.cumsum(lengths) - lengths
+        pos = np.arange(int(lengths.sum())) - np.repeat(offsets - first, lengths)
+        return self.arr[pos].tobytes()
+
+    def texts(self, idx: np.ndarray) -> list[bytes]:
+        """Text between each tag's '>' and the next '<' (which XML text cannot contain)."""
+        joined = self.gather(self.gt[idx] + 1, self.lt[idx + 1])  # "text<text<...text<"
+        return joined[:-1].split(b"<")
+
+
 def _scan(data: bytes, info: _RootInfo) -> _RawPoints:
     # Screens: markup a byte scan would misread goes to the careful path.
     if info.prefixed:
@@ -617,31 +610,22 @@ def _scan(data: bytes, info: _RootInfo) -> _RawPoints:
     first_ns = data.find(b"xmlns=")
     if (first_ns >= 0) != (info.ns is not None) or (first_ns >= 0 and data.find(b"xmlns=", first_ns + 1) >= 0):
         raise _NoFastPath("a default namespace declared below the root")
-    has_decl = data.startswith(b"<?xml")
-    if data.find(b"<!") >= 0 or data.find(b"<?", data.find(b"?>") + 2 if has_decl else 0) >= 0:
+    tags = _Tags(data)
+    second = tags.arr[tags.lt + 1]
+    if np.any(second == ord("!")) or np.count_nonzero(second == ord("?")) > (1 if data.startswith(b"<?xml") else 0):
         raise _NoFastPath("comments, CDATA or processing instructions")
-
-    parts = _TOKEN_SPLIT_RE.split(data)
-    tokens = parts[1::2]
-    kind, head = _classify(tokens)
-    # a speed element with attributes is invisible to the tokens: compare with a plain count
-    if data.count(b"speed>") != 2 * int(np.count_nonzero(kind == _K_SPEED)):
-        raise _NoFastPath("speed elements of an uncommon form")
-    pt_s, pt_e = _pairs(kind, _K_PT, _K_PT_END)
+    pt_s, pt_e = _pairs(tags.named(b"trkpt"), tags.named(b"trkpt", closing=True))
     n = len(pt_s)
     if n == 0:
         raise _NoFastPath("no track points")
-    seg_s, seg_e = _pairs(kind, _K_SEG, _K_SEG_END)
-    trk_s, trk_e = _pairs(kind, _K_TRK, _K_TRK_END)
-    ext_s, ext_e = _pairs(kind, _K_EXT, _K_EXT_END)
+    seg_s, seg_e = _pairs(tags.named(b"trkseg"), tags.named(b"trkseg", closing=True))
+    trk_s, trk_e = _pairs(tags.named(b"trk"), tags.named(b"trk", closing=True))
+    ext_s, ext_e = _pairs(tags.named(b"extensions"), tags.named(b"extensions", closing=True))
+    if np.any(tags.empty[pt_s]) or np.any(tags.empty[seg_s]) or np.any(tags.empty[trk_s]) or np.any(tags.empty[ext_s]):
+        raise _NoFastPath("empty-element track tags")
 
-    # Depth of each token (root element = 1): tracks at 1, segments at 2, points at 3,
-    # each inside the one above; a point's own children at 4.
-    step = _DEPTH_STEP[kind]
-    gap_change = _gap_depth_change(parts[0::2], has_decl)
-    depth = np.cumsum(gap_change[:-1]) + np.cumsum(step) - step
-    if depth[-1] + step[-1] + gap_change[-1] != 0:
-        raise _NoFastPath("depth count does not return to zero")
+    # tracks at depth 1, segments at 2, points at 3, each inside the one above
+    depth = tags.depth
     seg_of_pt = _owner(pt_s, seg_s, seg_e)
     if (
         np.any(depth[trk_s] != 1)
@@ -652,20 +636,38 @@ def _scan(data: bytes, info: _RootInfo) -> _RawPoints:
     ):
         raise _NoFastPath("track elements out of place")
 
-    tok = np.empty(len(tokens), dtype=object)
-    tok[:] = tokens
-    lat, lon = _lat_lon(b"".join(tok[pt_s].tolist()), n)
-    ext_depth_ok = depth[ext_s] == 4
-    ele = _values(tok, kind, _K_ELE, depth, pt_s, pt_e, n, b"<ele>", b"</ele>")
-    tim = _values(tok, kind, _K_TIME, depth, pt_s, pt_e, n, b"<time>", b"</time>")
+    lat, lon = _lat_lon(tags.gather(tags.lt[pt_s], tags.gt[pt_s]), n)
+    ele = _values(tags, np.flatnonzero(tags.named(b"ele") & (depth == 4)), pt_s, pt_e, n)
+    tim = _values(tags, np.flatnonzero(tags.named(b"time") & (depth == 4)), pt_s, pt_e, n)
     # speed: a direct child <speed> (GPX 1.0), or any *:speed inside the point's <extensions>
-    sp = np.flatnonzero(kind == _K_SPEED)
-    prefixed = ~np.strings.startswith(head[sp], b"<speed>")
-    ext_of_sp = _owner(sp, ext_s, ext_e)
-    in_pt_ext = (ext_of_sp >= 0) & ext_depth_ok[np.maximum(ext_of_sp, 0)] if len(ext_s) else np.zeros(len(sp), bool)
-    sp_ok = (depth[sp] == 4) & ~prefixed | (depth[sp] >= 5) & in_pt_ext
-    spd = _values(tok, kind, _K_SPEED, depth, pt_s, pt_e, n, None, None, ok=sp_ok)
+    direct = np.flatnonzero(tags.named(b"speed") & (depth == 4))
+    in_ext = _speeds_in_extensions(tags, ext_s, ext_e)
+    spd = _values(tags, np.sort(np.concatenate([direct, in_ext])), pt_s, pt_e, n)
     return _RawPoints(lat=lat, lon=lon, ele=ele, time=tim, speed=spd, segment=seg_of_pt.astype(np.int64), path="fast")
+
+
+def _speeds_in_extensions(tags: _Tags, ext_s: np.ndarray, ext_e: np.ndarray) -> np.ndarray:
+    """Tag indices of the first element named ``speed`` (any prefix) in each point's extensions."""
+    if len(ext_s) == 0:
+        return np.zeros(0, dtype=np.int64)
+    # candidate start tags inside a depth-4 <extensions> (a point's own)
+    cand = np.flatnonzero(~tags.closing & (tags.depth >= 5))
+    owner = _owner(cand, ext_s, ext_e)
+    keep = owner >= 0
+    cand, owner = cand[keep], owner[keep]
+    keep = tags.depth[ext_s[owner]] == 4
+    cand, owner = cand[keep], owner[keep]
+    # local name is "speed": the whole name, or the part after a prefix ':'
+    names, long = tags.names(cand)
+    is_speed = (names == b"speed") | np.strings.endswith(names, b":speed")
+    for j in np.flatnonzero(long):  # names longer than the window: look closer
+        m = _NAME_RE.match(tags.data, int(tags.lt[cand[j]]) + 1)
+        is_speed[j] = m is not None and m.group(0).rsplit(b":", 1)[-1] == b"speed"
+    cand, owner = cand[is_speed], owner[is_speed]
+    # first per extensions block
+    first = np.ones(len(owner), dtype=bool)
+    first[1:] = owner[1:] != owner[:-1]
+    return cand[first]
 
 
 def _lat_lon(joined: bytes, n: int) -> tuple[list[str], list[str]]:
@@ -687,31 +689,29 @@ def _lat_lon(joined: bytes, n: int) -> tuple[list[str], list[str]]:
     return _decode([p[0] or p[3] for p in pts]), _decode([p[1] or p[2] for p in pts])
 
 
-def _values(tok, kind, code, depth, pt_s, pt_e, n, open_tag, close_tag, *, ok=None) -> list[str]:
-    """Text of one child element per point ("" where absent), by token position."""
-    pos = np.flatnonzero(kind == code)
+def _values(tags: _Tags, idx: np.ndarray, pt_s, pt_e, n: int) -> list[str]:
+    """Text of one child element per point ("" where absent)."""
     out = [""] * n
-    if len(pos) == 0:
-        return out
-    owner = _owner(pos, pt_s, pt_e)
+    owner = _owner(idx, pt_s, pt_e)
     inside = owner >= 0
-    if ok is None:
-        ok = depth[pos] == 4  # a direct child of the point
-    if np.any(inside & ~ok):
-        raise _NoFastPath("a value element nested where the careful path would not look")
-    own = owner[inside]  # increasing, as tokens and points are in document order
+    idx, own = idx[inside], owner[inside]
     if len(own) == 0:
         return out
     if np.any(np.diff(own) == 0):
         raise _NoFastPath("a point holds the same child twice")
-    joined = b"".join(tok[pos[inside]].tolist())
-    if open_tag is not None:  # "<t>v1</t><t>v2</t>" -> v1, v2
-        texts = joined[len(open_tag) : -len(close_tag)].split(close_tag + open_tag)
+    full = ~tags.empty[idx]
+    if np.any(full & ~tags.closing[np.minimum(idx + 1, len(tags.lt) - 1)]):
+        raise _NoFastPath("a value element holds markup")
+    texts = [b""] * len(idx)
+    if full.all():
+        texts = tags.texts(idx)
     else:
-        texts = _SPEED_RE.findall(joined)
-    if len(texts) != len(own) or b"&" in joined:
-        raise _NoFastPath("values with character references or of an uncommon form")
-    texts = _decode(texts)
+        for j, t in zip(np.flatnonzero(full).tolist(), tags.texts(idx[full])):
+            texts[j] = t
+    joined = b"\x00".join(texts)
+    if b"&" in joined:
+        raise _NoFastPath("character references in values")
+    texts = joined.decode("utf-8").split("\x00")
     if len(own) == n:
         return texts
     vals = np.empty(n, dtype=object)
@@ -877,7 +877,7 @@ def _assemble(raw: _RawPoints, info: _RootInfo, *, name: str, sha256: str, gap_s
 
 
 _MIN_YEAR, _MAX_YEAR = 1678, 2261  # whole years inside datetime64[ns]
-_OFFSET_RE = re.compile(r"[+-]\d\d:\d\d$")
+_TIME_SHAPE_RE = re.compile(r"\d{4}-?\d\d")  # pandas alone would also take "today" and "now"
 
 
 def _parse_times(arr: np.ndarray, file_index: np.ndarray, name: str, locate) -> np.ndarray:
@@ -892,7 +892,10 @@ def _parse_times(arr: np.ndarray, file_index: np.ndarray, name: str, locate) -> 
     except (ValueError, OverflowError):
         pass
     texts = arr.tolist()
+    shaped = [bool(_TIME_SHAPE_RE.match(t)) for t in texts]
     try:
+        if not all(shaped):
+            raise ValueError("not ISO 8601")
         parsed = pd.to_datetime(texts, format="ISO8601", utc=True)
         if not parsed.isna().any():
             ns = parsed.as_unit("ns").asi8
@@ -904,6 +907,8 @@ def _parse_times(arr: np.ndarray, file_index: np.ndarray, name: str, locate) -> 
     for j, text in enumerate(texts):
         where = locate(int(file_index[j]))
         try:
+            if not shaped[j]:
+                raise ValueError(text)
             ts = pd.to_datetime([text], format="ISO8601", utc=True)
             if ts.isna().any():
                 raise ValueError(text)
@@ -940,7 +945,12 @@ def _parse_times_numpy(arr: np.ndarray) -> np.ndarray:
     years = st.slice(local, 0, 4).astype(np.int64)
     if years.min() < _MIN_YEAR or years.max() > _MAX_YEAR:
         raise ValueError("year out of range")
-    ns = local.astype("datetime64[ns]").astype(np.int64)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # numpy warns when it meets a zone designator
+        try:
+            ns = local.astype("datetime64[ns]").astype(np.int64)
+        except Warning as exc:
+            raise ValueError(str(exc)) from None
     if np.any(offset):
         tail_o = tail[offset]
         minutes = st.slice(tail_o, 1, 3).astype(np.int64) * 60 + st.slice(tail_o, 4, 6).astype(np.int64)
@@ -967,3 +977,62 @@ def _warn_times(name: str, times: pd.DatetimeIndex) -> None:
             DataQualityWarning,
             stacklevel=4,
         )
+
+
+# ======================================================================================
+# Summary of what was read (used by ``floatlift inspect``)
+# ======================================================================================
+#: An interval counts as irregular when it differs from the median by more than this share.
+IRREGULAR_TOLERANCE = 0.5
+
+
+def _iso_utc(ts: pd.Timestamp) -> str:
+    text = ts.tz_convert("UTC").isoformat()
+    return text.replace("+00:00", "Z")
+
+
+def track_summary(track: Track) -> dict:
+    """What the reader found in a file: counts, times, sampling, gaps, flags.
+
+    Keys: ``file``, ``sha256``, ``creator``, ``gpx_version``, ``points``,
+    ``points_in_file``, ``start_utc``, ``end_utc``, ``span_s``, ``interval_median_s``,
+    ``interval_irregular_share`` (share of intervals off the median by more than
+    :data:`IRREGULAR_TOLERANCE` of it), ``interval_min_s``, ``interval_max_s``,
+    ``segments``, ``gaps`` (``threshold_s``, ``count``, ``longest_s``,
+    ``longest_start_utc``), ``duplicates_merged``, ``reordered``, ``untimed_dropped``,
+    ``reported_speed_points``, ``elevation_points``. Times are ISO 8601 UTC with ``Z``.
+    """
+    pts = track.points
+    meta = track.meta
+    t_ns = pts[COL_TIME].to_numpy(dtype="datetime64[ns]").astype(np.int64)
+    dt_s = np.diff(t_ns) / 1e9
+    median = float(np.median(dt_s))
+    irregular = float(np.mean(np.abs(dt_s - median) > IRREGULAR_TOLERANCE * median))
+    longest = max(meta.gaps, key=lambda g: g.duration_s) if meta.gaps else None
+    return {
+        "file": meta.source,
+        "sha256": meta.sha256,
+        "creator": meta.creator,
+        "gpx_version": meta.gpx_version,
+        "points": int(len(pts)),
+        "points_in_file": int(meta.n_points_raw + meta.n_untimed_dropped),
+        "start_utc": _iso_utc(track.start),
+        "end_utc": _iso_utc(track.end),
+        "span_s": float(track.duration_s),
+        "interval_median_s": median,
+        "interval_irregular_share": irregular,
+        "interval_min_s": float(dt_s.min()),
+        "interval_max_s": float(dt_s.max()),
+        "segments": int(pts[COL_SEGMENT].nunique()),
+        "gaps": {
+            "threshold_s": float(meta.gap_threshold_s),
+            "count": len(meta.gaps),
+            "longest_s": None if longest is None else float(longest.duration_s),
+            "longest_start_utc": None if longest is None else _iso_utc(longest.start),
+        },
+        "duplicates_merged": int(meta.n_duplicates_merged),
+        "reordered": int(meta.n_reordered),
+        "untimed_dropped": int(meta.n_untimed_dropped),
+        "reported_speed_points": int(pts[COL_SPEED].notna().sum()),
+        "elevation_points": int(pts[COL_ELE].notna().sum()),
+    }
