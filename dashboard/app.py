@@ -34,8 +34,8 @@ with st.sidebar:
     st.divider()
     try:
         counts = data.counts(data.db_url(), data.generation(data.db_url()))
-        st.caption(f"Library: {counts['sessions']} sessions, {counts['rides']} rides, "
-                   f"{counts['riders']} riders, {counts['boards']} boards")
+        st.caption("Library: " + ", ".join(ui.count(counts[k], k[:-1]) for k in ("sessions", "rides", "riders",
+                                                                                  "boards")))
     except FloatliftError as exc:
         st.error(f"The library cannot be opened: {exc}")
         st.stop()

@@ -104,6 +104,18 @@ def wait_healthy(url: str, proc: subprocess.Popen | None = None, timeout_s: floa
     return False
 
 
+def _stop_on_sigterm() -> None:
+    """Treat SIGTERM like Ctrl-C (stop the server, then return), when called from the main thread."""
+    import signal
+    import threading
+
+    def _interrupt(signum, frame):  # noqa: ARG001
+        raise KeyboardInterrupt
+
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGTERM, _interrupt)
+
+
 def serve(url: str | None = None, *, host: str = DEFAULT_HOST, port: int | None = None,
           out=None) -> int:
     """Run the dashboard on *url*'s library until interrupted; returns an exit status.
@@ -141,6 +153,7 @@ def serve(url: str | None = None, *, host: str = DEFAULT_HOST, port: int | None 
         raise DashboardError("the dashboard app is missing from this installation")
     env = dict(os.environ, **{ENV_DB: url})
     env.setdefault("STREAMLIT_BROWSER_GATHER_USAGE_STATS", "false")
+    _stop_on_sigterm()
     proc = subprocess.Popen(streamlit_command(host, int(port)), env=env, stdin=subprocess.DEVNULL,
                             stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
     link = address(host, int(port))

@@ -51,3 +51,8 @@ def session_label(row) -> str:
 def empty_library_note() -> None:
     st.info("The library has no sessions yet. Add GPX tracks on the 'Add tracks' page, "
             "or build the demo library with `floatlift demo`.")
+
+
+def count(n: int, noun: str) -> str:
+    """``1 session``, ``2 sessions``."""
+    return f"{n} {noun}" if n == 1 else f"{n} {noun}s"

@@ -151,7 +151,7 @@ def test_boards_page_shows_the_load_figures_of_the_package(app, library_url):
     assert _metric(app, "Planform loading") == f"{figs.planform_loading_n_m2:.0f} N/m²"
     lo, hi = figs.predicted_onset_mps
     assert _metric(app, "Predicted planing speed") == f"{lo:.1f}–{hi:.1f} m/s"
-    assert _metric(app, "Smallest catchable breaking wave") == f"{figs.min_breaking_wave_m:.2f} m"
+    assert _metric(app, "Smallest catchable wave") == f"{figs.min_breaking_wave_m:.2f} m"
     assert any(CAUTION in w.value for w in app.warning)
     catalogue = _dataframe(app, "volume [L]")
     assert len(catalogue) == n_boards == 6  # the scenario's six boards
@@ -171,7 +171,7 @@ def test_boards_page_in_pounds_and_feet(app, library_url):
     lbf_ft2 = LB_KG * 9.80665 / FT_M**2
     assert lbf_ft2 == pytest.approx(47.880259, rel=1e-7)
     assert _metric(app, "Planform loading") == f"{figs.planform_loading_n_m2 / lbf_ft2:.2f} lb/ft²"
-    assert _metric(app, "Smallest catchable breaking wave") == f"{figs.min_breaking_wave_m / FT_M:.2f} ft"
+    assert _metric(app, "Smallest catchable wave") == f"{figs.min_breaking_wave_m / FT_M:.2f} ft"
     sizes = _dataframe(app, "size")["size"]
     assert all('"' in s and "'" in s for s in sizes)  # trade notation, feet and inches
 

@@ -62,6 +62,7 @@ if st.button("Import", type="primary", disabled=not files, key="import_go"):
         result = data.import_uploads(url, uploads, rider=None if rider == ui.NONE_LABEL else rider,
                                      board=None if board == ui.NONE_LABEL else board, conditions=conditions)
     st.session_state["last_import"] = result
+    st.rerun()  # the sidebar and every cached table read the new generation
 
 result = st.session_state.get("last_import")
 if result is not None:

@@ -66,8 +66,8 @@ m[2].metric("Planform loading", units.loading(figs.planform_loading_n_m2),
 band = figs.predicted_onset_mps
 m[3].metric("Predicted planing speed", du.MISSING if band is None else units.speed_range(*band, digits=1),
             help="Speed band at which the board is predicted to plane (planing-hull model, trim range).")
-m[4].metric("Smallest catchable breaking wave", units.height(figs.min_breaking_wave_m, 2),
-            help="Breaking wave face whose speed reaches the low end of the planing band.")
+m[4].metric("Smallest catchable wave", units.height(figs.min_breaking_wave_m, 2),
+            help="Height of the smallest breaking wave face whose speed reaches the low end of the planing band.")
 st.caption(f"Total load {units.mass(figs.total_mass_kg)} · buoyancy {units.mass(figs.buoyancy_kg)} of "
            f"{water} water ({figs.water_density_kg_m3:.1f} kg/m³) · displacement speed limit "
            f"{units.speed(figs.displacement_speed_limit_mps)}")
