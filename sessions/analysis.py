@@ -224,9 +224,14 @@ def analyse(track: Track, *, settings: AnalysisSettings | None = None) -> Sessio
     gt = grid["t_s"].to_numpy()
     shore = estimate_shore(gx, gy, gv, gvx, gvy)
     net = net_speed(gt, gx, gy, grid["piece"].to_numpy(), s.states.net_window_s)
-    labels = label_states(gv, gvx, gvy, gx, gy, shore, s.states, step_s=s.grid_step_s, net_speed_mps=net)
-    # the HMM decodes the whole grid as one chain (a long gap is just a longer step);
-    # state runs are still cut at gaps (see SessionAnalysis.state_runs)
+    # each gap-free piece is decoded as its own chain (after a long pause anything goes)
+    labels = np.empty(len(gt), dtype=np.int8)
+    piece = grid["piece"].to_numpy()
+    cut = np.flatnonzero(np.diff(piece)) + 1
+    for a, b in zip(np.concatenate(([0], cut)), np.concatenate((cut, [len(gt)]))):
+        labels[a:b] = label_states(
+            gv[a:b], gvx[a:b], gvy[a:b], gx[a:b], gy[a:b], shore, s.states, step_s=s.grid_step_s, net_speed_mps=net[a:b]
+        )
     cos_shore = shore.cos_shoreward(gvx, gvy) if shore.known else np.zeros(len(gv))
     labels = clean_ride_labels(labels, gt, gv, cos_shore, s.rides)
     labels = reject_scattered_rides(labels, gx, gy, s.rides)
