@@ -443,12 +443,16 @@ def _took_off(b1, b2):
 
 
 def _blurred_ramp(x: np.ndarray, w: np.ndarray) -> np.ndarray:
-    """E[(x + U)_+] for U ~ N(0, w^2); (x)_+ where w = 0."""
-    ws = np.where(w > 0, w, 1.0)
-    z = x / ws
-    cdf = np.where(w > 0, special.ndtr(z), (x > 0).astype(float))
-    pdf = np.where(w > 0, np.exp(-0.5 * z * z) / np.sqrt(2.0 * np.pi), 0.0)
-    return x * cdf + np.where(w > 0, w, 0.0) * pdf
+    """E[(x + U)_+] for U ~ N(0, w^2), one width per leading index; (x)_+ where w = 0."""
+    out = np.empty(x.shape)
+    for i, wi in enumerate(np.asarray(w, dtype=float).reshape(-1)):
+        xi = x[i]
+        if wi > 0:
+            z = xi / wi
+            out[i] = xi * special.ndtr(z) + wi * np.exp(-0.5 * z * z) / np.sqrt(2.0 * np.pi)
+        else:
+            out[i] = np.maximum(xi, 0.0)
+    return out
 
 
 def phase_design(t: np.ndarray, onsets: np.ndarray, durations: np.ndarray, widths=(0.0,)) -> np.ndarray:
@@ -512,7 +516,7 @@ def _gram_inverse(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     orthogonal columns, 0 for dependent ones) is below 1e-12.
     """
     n = design.shape[1]
-    gram = np.einsum("knp,knq->kpq", design, design)
+    gram = np.matmul(design.transpose(0, 2, 1), design)
     gram[:, 3, 3] += 1e-9 * n
     diag = np.sqrt(np.einsum("kpp->kp", gram))
     with np.errstate(all="ignore"):
