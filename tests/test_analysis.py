@@ -120,7 +120,6 @@ def test_bad_input_is_a_clear_error():
 
 
 # --- accuracy on simulated sessions ---------------------------------------------------
-@pytest.mark.slow
 def test_accuracy_floors_on_fixed_seeds():
     cases = [(101, "1hz", False), (102, "5hz", True), (103, "smart", False), (104, "1hz", True)]
     tp = det = true = 0
