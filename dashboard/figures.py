@@ -64,7 +64,7 @@ def ride_offsets_s(samples: pd.DataFrame, rides: list[dict]) -> list[dict]:
 # --- session review ------------------------------------------------------------------------
 def track_figure(samples: pd.DataFrame, rides: list[dict]) -> Figure:
     """The session's path in local metres (east, north), coloured by activity state."""
-    fig = new_figure(6.4, 5.2)
+    fig = new_figure(5.0, 4.6)
     ax = fig.add_subplot()
     _style(ax)
     x = samples["x_m"].to_numpy(float)

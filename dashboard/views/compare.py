@@ -129,7 +129,8 @@ for d in result.differences:
         "sessions A / B": f"{d.sessions_a} / {d.sessions_b}",
         "verdict": cmp.verdict_sentence(d),
     })
-st.dataframe(pd.DataFrame(diff_rows), hide_index=True, key="cmp_diff_table")
+st.dataframe(pd.DataFrame(diff_rows), hide_index=True, key="cmp_diff_table",
+             height=min(35 * (len(diff_rows) + 1) + 3, 1000))
 st.caption("Intervals resample whole sessions (rides of one session share the day's waves); the rank test "
            "compares session medians. A verdict needs the interval to exclude zero and p below "
            f"{result.rules.alpha:g}, with at least {result.rules.min_sessions} sessions and "

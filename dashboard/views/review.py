@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from pathlib import PurePosixPath
+
 import pandas as pd
 import streamlit as st
 
@@ -83,7 +85,7 @@ if not drawing.matches_stored:
             f"(stored by analysis version {detail['analysis_version']}, installed {drawing.analysis_version}). "
             "The table and the onset marks show the stored rides; `floatlift reanalyse --all` refreshes them.")
 
-left, right = st.columns([2, 3])
+left, right = st.columns([5, 8])
 with left:
     st.markdown("**Path by activity** (metres from the session's centre)")
     st.image(data.track_picture(url, sid, detail["sha256"]), width="stretch")
@@ -92,26 +94,33 @@ with right:
     sym = units.speed_symbol
     table = pd.DataFrame([{
         "ride": r["index"] + 1,
-        "start (UTC)": pd.Timestamp(r["start"]).tz_convert("UTC").strftime("%H:%M:%S"),
+        "start": pd.Timestamp(r["start"]).tz_convert("UTC").strftime("%H:%M:%S"),
         "time [s]": round(r["duration_s"], 1),
         "distance [m]": round(r["distance_m"]),
         f"peak [{sym}]": round(units.speed_value(r["peak_speed_mps"]), 1),
-        f"planing onset [{sym}]": (None if r["onset_speed_mps"] is None
-                                   else round(units.speed_value(r["onset_speed_mps"]), 2)),
-        f"onset interval [{sym}]": (f"{units.speed_value(r['onset_ci_mps'][0]):.2f}–"
-                                    f"{units.speed_value(r['onset_ci_mps'][1]):.2f}" if r.get("onset_ci_mps")
-                                    else (r.get("onset_reason") or du.MISSING)),
+        f"onset [{sym}]": (None if r["onset_speed_mps"] is None
+                           else round(units.speed_value(r["onset_speed_mps"]), 2)),
+        f"interval [{sym}]": (f"{units.speed_value(r['onset_ci_mps'][0]):.2f}–"
+                              f"{units.speed_value(r['onset_ci_mps'][1]):.2f}" if r.get("onset_ci_mps")
+                              else "no onset" if r["onset_speed_mps"] is None else du.MISSING),
     } for r in rides])
     if table.empty:
         st.info("No rides were found in this session.")
     else:
         st.dataframe(table, hide_index=True, key="ride_table", height=min(35 * (len(table) + 1) + 3, 1000))
+        st.caption("Start in UTC. Onset: the speed at which the ride began to plane; interval: its "
+                   "90 % bootstrap interval.")
+        for r in rides:
+            if r["onset_speed_mps"] is None and r.get("onset_reason"):
+                reason = str(r["onset_reason"]).split(":", 1)[-1].strip().replace("_", " ")
+                st.text(f"Ride {r['index'] + 1}, no onset found: {reason}")
 
 st.markdown("**Speed and planing onsets**")
 zoom_options = [None, *[r["index"] for r in rides]]
 zoom = st.selectbox("Show", zoom_options, key=f"zoom_{sid}",
                     format_func=lambda i: "the whole session" if i is None else f"ride {i + 1}")
 st.image(data.speed_picture(url, sid, detail["sha256"], units, zoom, gen), width="stretch")
-st.caption(f"Source file: {ui.md(detail['source_file'])} · {detail['points']} fixes · "
+st.caption(f"Source file: {ui.md(PurePosixPath(detail['source_file'].replace(chr(92), '/')).name)} · "
+           f"{detail['points']} fixes · "
            f"analysis version {detail['analysis_version']}")
 st.caption(ANALYSIS_CAUTION)
