@@ -87,7 +87,7 @@ if not drawing.matches_stored:
 
 left, right = st.columns([5, 8])
 with left:
-    st.markdown("**Path by activity** (metres from the session's centre)")
+    st.markdown("**Path by activity** (local metres east and north)")
     st.image(data.track_picture(url, sid, detail["sha256"]), width="stretch")
 with right:
     st.markdown("**Rides**")

@@ -1,0 +1,1 @@
+"""The dashboard's pages, one file each (run by ``st.navigation`` from ``dashboard/app.py``)."""
