@@ -92,6 +92,9 @@ MAX_CANDIDATES = 40
 #: A smoothed series is thinned to at most this many samples per second before the fit
 #: (its samples are strongly correlated, so little information is lost).
 MAX_RATE_SMOOTHED_HZ = 2.5
+#: Onsets and durations of the fine local grid that polishes the best fit.
+POLISH_ONSETS = 21
+POLISH_DURATIONS = 9
 #: The bootstrap refits at the best blur width plus this many neighbours each side.
 BOOT_WIDTH_SPAN = 0
 #: The bootstrap refits at the best duration plus this many neighbours each side.
@@ -395,20 +398,21 @@ def _polish(tc, y, cand, widths, durations, fit):
     """Refine the onset on a fine local grid at the chosen blur width.
 
     The profile over onsets is kinked at the samples, so the parabola through the
-    coarse grid can miss its minimum; 21 onsets spanning the neighbouring coarse grid
-    points are refitted with 9 durations spanning the neighbouring grid durations (and
+    coarse grid can miss its minimum; :data:`POLISH_ONSETS` onsets spanning the
+    neighbouring coarse grid points are refitted with :data:`POLISH_DURATIONS` durations
+    spanning the neighbouring grid durations (and
     "none" if it is a neighbour), and the best by the same criterion kept, with its own
     parabolic refinement. Returns the onset,
     the speed there, the coefficients and the fitted curve.
     """
     j = int(fit["flat"][0]) % len(cand)
     lo, hi = cand[max(j - 1, 0)], cand[min(j + 1, len(cand) - 1)]
-    fine = np.linspace(lo, hi, 21)
+    fine = np.linspace(lo, hi, POLISH_ONSETS)
     iw, idur = int(fit["iw"][0]), int(fit["idur"][0])
     w = widths[iw : iw + 1]
     near = durations[max(idur - 1, 0) : idur + 2]
     finite = near[near < 1e3]
-    d = np.geomspace(finite.min(), finite.max(), 9) if len(finite) > 1 else finite
+    d = np.geomspace(finite.min(), finite.max(), POLISH_DURATIONS) if len(finite) > 1 else finite
     if (near >= 1e3).any():
         d = np.append(d, 1e3)
     design = phase_design(tc, fine, d, w).reshape(len(d) * len(fine), len(tc), -1)
