@@ -12,13 +12,17 @@ Pipeline
 2. **Normalise** the text encoding to UTF-8 (BOM, UTF-16/32, declared 8-bit encodings).
 3. **Guard**: any ``<!DOCTYPE`` or ``<!ENTITY`` is refused before a parser sees the bytes,
    so entity bombs and external entities are never expanded.
-4. **Parse** with lxml (no DTD, no network, no entity resolution, default size and depth
-   limits). This proves the document well-formed and gives the root element.
-5. **Extract** the raw values of each track point. The *fast path* scans the bytes with a
-   handful of regular expressions and assigns child values to points by byte position
-   (numpy ``searchsorted``); it runs only when a set of screens proves the scan sees
-   exactly what the XML tree holds, otherwise the *careful path* walks the lxml tree.
-   Both paths return the same raw strings; :func:`_assemble` turns them into the table.
+4. **Check** with lxml (no DTD, no network, no entity resolution, default size and depth
+   limits) without building a tree: the document is well-formed, else a specific error.
+   The root element alone is then read for the creator, version and namespace.
+5. **Extract** the raw text of each track point. The *fast path* works on the positions of
+   all ``<`` and ``>`` in the bytes (numpy): tag names, element depth and the text of
+   childless elements follow by vectorised arithmetic, and values are assigned to points
+   by position (``searchsorted``). It runs only when screens prove the scan sees exactly
+   what the XML tree holds (no comments, CDATA, entities, prefixed GPX namespace, nested
+   markup in values, track elements out of place); otherwise the *careful path* builds
+   the lxml tree and walks ``gpx/trk/trkseg/trkpt``. Both give the same raw strings,
+   which :func:`_assemble` turns into the table.
 6. **Assemble**: numbers and ISO 8601 times converted in bulk, range checks, untimed points
    dropped, stable sort by time, exact duplicate times merged (first fix kept), gaps listed.
 """
@@ -98,6 +102,9 @@ def read_gpx(
         Largest accepted document size [bytes]; for gzip input, of the decompressed text.
     gap_s : float
         A pause between consecutive fixes longer than this is listed in ``meta.gaps`` [s].
+    _path : {"auto", "fast", "careful"}
+        For tests and benchmarks: force an extraction path ("fast" raises ``ValueError``
+        when its screens send the document to the careful path).
 
     Returns
     -------
@@ -306,14 +313,7 @@ def _to_utf8(data: bytes, name: str) -> bytes:
             if m and m.group(1).decode("ascii").lower() not in _UTF8_NAMES:
                 codec = m.group(1).decode("ascii")
     if codec is None:
-        try:
-            data.decode("utf-8")
-        except UnicodeDecodeError as exc:
-            raise NotXMLError(
-                f"{name}: not valid UTF-8 text (bad byte at offset {exc.start}); "
-                "the file is binary or in an undeclared encoding"
-            ) from exc
-        return data
+        return data  # UTF-8: the parser checks every byte sequence (see _parse)
     try:
         text = data.decode(codec)
     except LookupError as exc:
@@ -397,6 +397,10 @@ def _parse(data: bytes, name: str, *, tree: bool = True):
             raise TruncatedXMLError(
                 f"{name}: the XML ends before its root element <{root.group(1).decode('utf-8', 'replace')}> "
                 f"is closed (truncated file?): {msg}"
+            ) from exc
+        if "encoding" in msg.lower() or "utf-8" in msg.lower():
+            raise NotXMLError(
+                f"{name}: not valid UTF-8 text ({msg}); the file is binary or in an undeclared encoding"
             ) from exc
         if "depth" in msg.lower() or "limit" in msg.lower():
             raise NotXMLError(f"{name}: XML exceeds the parser's safety limits: {msg}") from exc
