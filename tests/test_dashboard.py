@@ -314,3 +314,23 @@ def test_no_user_text_is_rendered_as_html():
     assert escaped.replace("\\", "") == text  # nothing lost
     for ch in "<>[]()*`":
         assert all(escaped[i - 1] == "\\" for i, c in enumerate(escaped) if c == ch)
+
+
+def test_boards_page_names_the_figures_a_bare_board_cannot_give(library_url, tmp_path, monkeypatch):
+    copy = tmp_path / "copy.sqlite"
+    shutil.copy(library_url.removeprefix("sqlite:///"), copy)
+    url = f"sqlite:///{copy}"
+    with Library.open(url) as lib:
+        lib.add_board("Plain slab", volume_l=40.0)  # no mass, no dimensions, no outline
+    monkeypatch.setenv("FLOATLIFT_DB", url)
+    at = AppTest.from_file(APP, default_timeout=TIMEOUT_S)
+    at.run()
+    _open(at, "views/boards.py")
+    at.selectbox(key="load_board").set_value("Plain slab").run()
+    assert not at.exception, [e.message for e in at.exception]
+    texts = [t.value for t in at.text]
+    assert "No planform loading: needs the board's dimensions or outline" in texts
+    assert "No predicted planing speed: needs the board's dimensions or outline" in texts
+    assert any("cannot be drawn" in i.value for i in at.info)
+    assert _metric(at, "Predicted planing speed") == "–"
+    assert _metric(at, "Litres per kg of rider") != "–"  # volume and rider mass suffice

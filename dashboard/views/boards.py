@@ -38,9 +38,7 @@ st.dataframe(catalogue, hide_index=True, key="board_catalogue")
 c1, c2, c3 = st.columns([3, 3, 2])
 board_name = c1.selectbox("Board", [b["name"] for b in boards], key="load_board")
 riders = [r for r in data.riders(url, gen) if r["body_mass_kg"] is not None]
-rider_name = c2.selectbox("Rider", [r["name"] for r in riders], key="load_rider",
-                          format_func=lambda n: next(f"{n} ({units.mass(r['body_mass_kg'])})"
-                                                     for r in riders if r["name"] == n))
+rider_name = c2.selectbox("Rider", [r["name"] for r in riders], key="load_rider")
 water = c3.radio("Water", WATER_PRESETS, key="load_water", horizontal=True)
 
 spec = data.board_object(url, board_name, gen)
@@ -62,17 +60,28 @@ m[0].metric("Litres per kg of rider", du.number(figs.litres_per_kg, 2))
 m[1].metric("Weight the board floats", du.share(figs.lifted_share),
             help="Buoyancy of the fully submerged board as a share of rider, gear and board weight.")
 m[2].metric("Planform loading", units.loading(figs.planform_loading_n_m2),
-            help="Weight of rider, gear and board per square metre of planform.")
+            help="Weight of rider, gear and board per unit of planform area.")
 band = figs.predicted_onset_mps
 m[3].metric("Predicted planing speed", du.MISSING if band is None else units.speed_range(*band, digits=1),
             help="Speed band at which the board is predicted to plane (planing-hull model, trim range).")
 m[4].metric("Smallest catchable wave", units.height(figs.min_breaking_wave_m, 2),
             help="Height of the smallest breaking wave face whose speed reaches the low end of the planing band.")
-st.caption(f"Total load {units.mass(figs.total_mass_kg)} · buoyancy {units.mass(figs.buoyancy_kg)} of "
+rider = next(r for r in riders if r["name"] == rider_name)
+st.caption(f"Rider {units.mass(rider['body_mass_kg'])}, worn gear {units.mass(rider['gear_mass_kg'])} · "
+           f"total load with the board {units.mass(figs.total_mass_kg)} · buoyancy {units.mass(figs.buoyancy_kg)} of "
            f"{water} water ({figs.water_density_kg_m3:.1f} kg/m³) · displacement speed limit "
            f"{units.speed(figs.displacement_speed_limit_mps)}")
+FIGURE_WORDS = {
+    "total_mass_kg": "total load", "lifted_share": "weight the board floats",
+    "board_float_fraction": "how deep the board alone floats", "planform_area_m2": "planform area",
+    "planform_loading_n_m2": "planform loading", "planform_loading_kg_m2": None,
+    "displacement_speed_limit_mps": "displacement speed limit", "predicted_onset_mps": "predicted planing speed",
+    "min_breaking_wave_m": "smallest catchable wave", "breaking_wave_band_m": None, "onset_froude_vol": None,
+}
 for key, reason in figs.unavailable.items():
-    st.text(f"{key.replace('_', ' ')}: {reason}")
+    word = FIGURE_WORDS.get(key, key.replace("_", " "))
+    if word:
+        st.text(f"No {word}: {reason}")
 for note in (*figs.notes, *model_warnings):
     st.text(f"Note: {note}")
 st.warning(LOAD_CAUTION)
