@@ -334,3 +334,24 @@ def test_boards_page_names_the_figures_a_bare_board_cannot_give(library_url, tmp
     assert any("cannot be drawn" in i.value for i in at.info)
     assert _metric(at, "Predicted planing speed") == "–"
     assert _metric(at, "Litres per kg of rider") != "–"  # volume and rider mass suffice
+
+
+def test_review_lists_stored_rides_when_the_track_cannot_be_drawn(library_url, tmp_path, monkeypatch):
+    copy = tmp_path / "copy.sqlite"
+    shutil.copy(library_url.removeprefix("sqlite:///"), copy)
+    url = f"sqlite:///{copy}"
+    with Library.open(url) as lib:
+        first = int(lib.sessions_frame()["session_id"].iloc[0])
+        analysis = lib.analysis(first)
+        sid, created = lib.store_session(analysis, b"<gpx>damaged</gpx>", analysis_version="test",
+                                         source_file="damaged.gpx")
+        rides = lib.session(sid)["ride_list"]
+    assert created
+    monkeypatch.setenv("FLOATLIFT_DB", url)
+    at = AppTest.from_file(APP, default_timeout=TIMEOUT_S)
+    at.run()
+    at.selectbox(key="review_session").set_value(sid).run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert any("cannot be drawn" in w.value for w in at.warning)
+    assert len(_dataframe(at, "onset [")) == len(rides) > 0
+    assert len(at.get("image")) == 0

@@ -10,6 +10,7 @@ import streamlit as st
 from dashboard import data, ui
 from dashboard import units as du
 from sessions.analysis import CAUTION as ANALYSIS_CAUTION
+from sessions.errors import FloatliftError
 
 ALL = "all"
 
@@ -79,8 +80,12 @@ if parts:
 if cond.get("note"):
     st.text(f"Conditions note: {cond['note']}")
 
-drawing = data.session_drawing(url, sid, detail["sha256"])
-if not drawing.matches_stored:
+try:
+    drawing = data.session_drawing(url, sid, detail["sha256"])
+except FloatliftError as exc:  # the stored track no longer reads or analyses with this version
+    drawing = None
+    st.warning(f"This session's track cannot be drawn: {ui.md(exc)}. Its stored rides are listed below.")
+if drawing is not None and not drawing.matches_stored:
     st.info(f"Re-running the analysis for the drawing found slightly different rides from the stored ones "
             f"(stored by analysis version {detail['analysis_version']}, installed {drawing.analysis_version}). "
             "The table and the onset marks show the stored rides; `floatlift reanalyse --all` refreshes them.")
@@ -88,7 +93,8 @@ if not drawing.matches_stored:
 left, right = st.columns([5, 8])
 with left:
     st.markdown("**Path by activity** (local metres east and north)")
-    st.image(data.track_picture(url, sid, detail["sha256"]), width="stretch")
+    if drawing is not None:
+        st.image(data.track_picture(url, sid, detail["sha256"]), width="stretch")
 with right:
     st.markdown("**Rides**")
     sym = units.speed_symbol
@@ -119,7 +125,8 @@ st.markdown("**Speed and planing onsets**")
 zoom_options = [None, *[r["index"] for r in rides]]
 zoom = st.selectbox("Show", zoom_options, key=f"zoom_{sid}",
                     format_func=lambda i: "the whole session" if i is None else f"ride {i + 1}")
-st.image(data.speed_picture(url, sid, detail["sha256"], units, zoom, gen), width="stretch")
+if drawing is not None:
+    st.image(data.speed_picture(url, sid, detail["sha256"], units, zoom, gen), width="stretch")
 st.caption(f"Source file: {ui.md(PurePosixPath(detail['source_file'].replace(chr(92), '/')).name)} · "
            f"{detail['points']} fixes · "
            f"analysis version {detail['analysis_version']}")
