@@ -187,3 +187,15 @@ def test_address_shown_for_every_interface():
     assert address("0.0.0.0", 8000) == "http://127.0.0.1:8000"
     assert address("::1", 8000) == "http://[::1]:8000"
     assert check_host("localhost") == "127.0.0.1"
+
+
+def test_demo_command_starts_the_dashboard_on_the_demo_library(monkeypatch):
+    import dashboard.server
+    from sessions.commands.library import _dashboard_hook
+
+    calls = []
+    monkeypatch.setattr(dashboard.server, "serve", lambda url, host, port: calls.append((url, host, port)) or 0)
+    hook = _dashboard_hook()
+    assert hook is not None
+    assert hook("sqlite:///demo.sqlite") == 0
+    assert calls == [("sqlite:///demo.sqlite", "127.0.0.1", None)]
