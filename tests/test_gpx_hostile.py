@@ -209,7 +209,7 @@ def test_gzip_bomb_refused_fast_with_little_memory():
         peak = tracemalloc.get_traced_memory()[1]
     finally:
         tracemalloc.stop()
-    assert elapsed < 5.0
+    assert elapsed < 15.0  # generous: a safety bound, not a speed target
     assert peak < 8 * 1024 * 1024  # the bomb itself plus one chunk, never the output
 
 
@@ -225,7 +225,7 @@ def test_huge_attribute_value():
     t0 = time.perf_counter()
     with pytest.raises(NotXMLError):
         read_gpx(huge)
-    assert time.perf_counter() - t0 < 5.0
+    assert time.perf_counter() - t0 < 15.0  # generous: a safety bound, not a speed target
     # a long but acceptable attribute is kept
     long = GOOD.replace(b'creator="t"', b'creator="' + b"y" * 100_000 + b'"')
     assert len(read_gpx(long).meta.creator) == 100_000
