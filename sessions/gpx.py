@@ -32,6 +32,7 @@ from __future__ import annotations
 import codecs
 import hashlib
 import io
+import logging
 import os
 import re
 import warnings
@@ -69,6 +70,8 @@ from sessions.track import (
     Track,
     TrackMeta,
 )
+
+log = logging.getLogger(__name__)
 
 __all__ = ["read_gpx", "track_summary", "DEFAULT_MAX_BYTES", "GPX10_NS", "GPX11_NS"]
 
@@ -548,7 +551,8 @@ def _owner(pos: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> np.ndarray:
 def _extract_fast(data: bytes, info: _RootInfo) -> _RawPoints | None:
     try:
         return _scan(data, info)
-    except _NoFastPath:
+    except _NoFastPath as why:
+        log.debug("reading with the tree: %s", why)
         return None
 
 
