@@ -214,11 +214,16 @@ def estimate_onset(
     parametric bootstrap with correlated noise for the percentile intervals (Efron &
     Tibshirani 1993, ch. 6 and 13). See the module docstring.
     """
-    try:
-        t, y, sd, src = _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window)
-    except _Unusable as exc:
-        return _none(exc.code, exc.detail)
-    return _estimate_prepared(t, y, sd, src, seed)
+    with np.errstate(all="ignore"):  # absurd magnitudes end in the checks, not in warnings
+        try:
+            t, y, sd, src = _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window)
+        except _Unusable as exc:
+            return _none(exc.code, exc.detail)
+        est = _estimate_prepared(t, y, sd, src, seed)
+    numbers = [est.time_s, est.speed_mps, *(est.ci_mps or ()), *(est.time_ci_s or ())]
+    if est.reason is None and not all(np.isfinite(x) for x in numbers):
+        return _none(REASON_BAD_INPUT, "times or speeds too large for a fit")
+    return est
 
 
 class _Unusable(Exception):
