@@ -355,3 +355,40 @@ def test_review_lists_stored_rides_when_the_track_cannot_be_drawn(library_url, t
     assert any("cannot be drawn" in w.value for w in at.warning)
     assert len(_dataframe(at, "onset [")) == len(rides) > 0
     assert len(at.get("image")) == 0
+
+
+@pytest.mark.postgres
+def test_pages_run_on_a_team_library_in_postgresql(pg_url, tmp_path, monkeypatch):
+    import secrets
+
+    import sqlalchemy as sa
+    from sqlalchemy.engine import make_url
+
+    from sessions.store.importer import import_manifest
+
+    name = "fl_dash_" + secrets.token_hex(6)  # generated identifier: safe to format
+    admin = sa.create_engine(pg_url, isolation_level="AUTOCOMMIT")
+    with admin.connect() as conn:
+        conn.exec_driver_sql(f'CREATE DATABASE "{name}"')
+    url = make_url(pg_url).set(database=name).render_as_string(hide_password=False)
+    try:
+        with Library.open(url) as lib:
+            import_manifest(lib, subset_manifest(tmp_path / "scenario", ("whimbrel-v2",), limit=1), workers=1)
+            sid = lib.sessions()[0]["id"]
+            detail = lib.session(sid)
+        monkeypatch.setenv("FLOATLIFT_DB", url)
+        at = AppTest.from_file(APP, default_timeout=TIMEOUT_S)
+        at.run()
+        assert not at.exception, [e.message for e in at.exception]
+        assert _metric(at, "Rides") == str(detail["rides"])
+        for page in ("views/add_tracks.py", "views/boards.py", "views/compare.py", "views/feedback.py"):
+            _open(at, page)
+        at.slider(key=f"fb_paddling_{sid}").set_value(2)
+        at.button(key="fb_save").click().run()
+        assert not at.exception
+        with Library.open(url) as lib:
+            assert lib.session(sid)["feedback"]["paddling"] == 2
+    finally:
+        with admin.connect() as conn:
+            conn.exec_driver_sql(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)')
+        admin.dispose()
