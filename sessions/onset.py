@@ -18,9 +18,10 @@ displacement-mode acceleration, ``b2`` the planing acceleration lasting ``Delta`
 through a near-Gaussian kernel, so every column can be blurred by a Gaussian of width
 ``w`` (closed forms in :func:`phase_design`). For fixed ``(tau, Delta, w)`` the model is
 linear in its coefficients, so the least-squares fit is found by profiling the residual
-sum of squares over a grid (Hudson 1966; Hinkley 1971), with a parabolic refinement of
-``tau`` between grid points. Everything is vectorised over candidates and bootstrap
-replicates.
+sum of squares over a grid (Hudson 1966; Hinkley 1971); the duration and blur are chosen
+by the Bayesian information criterion (Schwarz 1978), and ``tau`` and ``Delta`` are
+polished on a fine local grid with a final parabolic step. Everything is vectorised
+over candidates and bootstrap replicates.
 
 The 90 % intervals come from a parametric bootstrap (Efron & Tibshirani 1993, ch. 6)
 whose noise is a continuous-time first-order autoregressive process fitted to the
