@@ -392,3 +392,18 @@ def test_pages_run_on_a_team_library_in_postgresql(pg_url, tmp_path, monkeypatch
         with admin.connect() as conn:
             conn.exec_driver_sql(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)')
         admin.dispose()
+
+
+def test_compare_and_campaign_follow_the_speed_unit(app, library_url):
+    from sessions.units import MPH_MPS
+
+    app.radio(key="unit_system").set_value("trade").run()
+    app.selectbox(key="speed_unit").set_value("mph").run()
+    _open(app, "views/compare.py")
+    in_mph = _dataframe(app, "onset median")["onset median [mph]"].tolist()
+    app.radio(key="unit_system").set_value("metric").run()
+    app.selectbox(key="speed_unit").set_value("m/s").run()
+    in_mps = _dataframe(app, "onset median")["onset median [m/s]"].tolist()
+    # 1 mph = 0.447 04 m/s exactly (NIST SP 811, appendix B.9); both rounded to 0.01
+    assert MPH_MPS == pytest.approx(0.44704, rel=1e-12)
+    assert [v * MPH_MPS for v in in_mph] == pytest.approx(in_mps, abs=0.01)
