@@ -190,6 +190,21 @@ def load_figures(url: str, board: str, rider: str, water: str, gen: int):
     return figures, sorted({str(w.message) for w in caught})
 
 
+@st.cache_data(ttl=FRAME_TTL_S, show_spinner=False)
+def measured_on_board(url: str, gen: int, board: str) -> pd.DataFrame:
+    """Measured median onset per rider on *board* beside the planing model's band.
+
+    :func:`sessions.compare.model_table` on the board's rides (columns board, rider,
+    rides, planform_loading_npm2, litres_per_kg, measured_median_mps, model_lo_mps,
+    model_hi_mps).
+    """
+    from sessions import compare as cmp
+
+    rides = rides_frame(url, gen)
+    rides = cmp.add_load_terms(rides[rides["board"] == board])
+    return cmp.model_table(rides, cmp.board_load_model({board: board_object(url, board, gen)}))
+
+
 # --- comparison --------------------------------------------------------------------------------
 @st.cache_data(ttl=FRAME_TTL_S, max_entries=16, show_spinner="Comparing boards…")
 def comparison(url: str, gen: int, boards_: tuple[str, ...], riders_: tuple[str, ...],

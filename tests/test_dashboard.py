@@ -407,3 +407,21 @@ def test_compare_and_campaign_follow_the_speed_unit(app, library_url):
     # 1 mph = 0.447 04 m/s exactly (NIST SP 811, appendix B.9); both rounded to 0.01
     assert MPH_MPS == pytest.approx(0.44704, rel=1e-12)
     assert [v * MPH_MPS for v in in_mph] == pytest.approx(in_mps, abs=0.01)
+
+
+def test_boards_page_sets_measured_onsets_beside_the_model(app, library_url):
+    from sessions import compare as cmp
+
+    _open(app, "views/boards.py")
+    with Library.open(library_url) as lib:
+        rides = lib.rides_frame()
+        board = rides["board"].iloc[0]
+        spec = lib.board_object(board)
+    app.selectbox(key="load_board").set_value(board).run()
+    expected = cmp.model_table(cmp.add_load_terms(rides[rides["board"] == board]), cmp.board_load_model({board: spec}))
+    table = _dataframe(app, "measured onset")
+    assert list(table["rider"]) == list(expected["rider"]) and len(table) > 0
+    assert list(table["rides"]) == list(expected["rides"])
+    assert table["measured onset [m/s]"].tolist() == pytest.approx(expected["measured_median_mps"].round(2).tolist())
+    lo, hi = expected["model_lo_mps"].iloc[0], expected["model_hi_mps"].iloc[0]
+    assert table["predicted band [m/s]"].iloc[0] == f"{lo:.2f}–{hi:.2f} m/s"

@@ -84,4 +84,20 @@ for key, reason in figs.unavailable.items():
         st.text(f"No {word}: {reason}")
 for note in (*figs.notes, *model_warnings):
     st.text(f"Note: {note}")
+measured = data.measured_on_board(url, gen, board_name)
+if not measured.empty:
+    st.markdown("**Measured on this board** (median planing onset of each rider's rides)")
+    sym = units.speed_symbol
+    st.dataframe(pd.DataFrame({
+        "rider": measured["rider"],
+        "rides": measured["rides"],
+        f"measured onset [{sym}]": [None if pd.isna(v) else round(float(units.speed_value(v)), 2)
+                                    for v in measured["measured_median_mps"]],
+        f"predicted band [{sym}]": [units.speed_range(lo, hi, 2)
+                                    for lo, hi in zip(measured["model_lo_mps"], measured["model_hi_mps"])],
+        f"planform loading [{units.loading_symbol}]": [
+            None if pd.isna(v) else round(float(units.loading_value(v)), 2 if units.trade else 0)
+            for v in measured["planform_loading_npm2"]],
+        "litres per kg": measured["litres_per_kg"].round(2),
+    }), hide_index=True, key="measured_table")
 st.warning(LOAD_CAUTION)
