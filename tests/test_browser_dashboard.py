@@ -95,6 +95,8 @@ def test_upload_open_and_find_rides(chromium_browser, server, artifacts_dir):
         page.screenshot(path=str(artifacts_dir / "dashboard-add-tracks.png"))
         page.get_by_role("button", name="Import").click()
         expect(page.get_by_text(re.compile(r"^Imported 1, already in the library 0, refused 0"))).to_be_visible()
+        expect(page.get_by_test_id("stDataFrame").locator("table")).to_contain_text(UPLOAD)
+        time.sleep(0.5)  # let the table's canvas paint before the screenshot
         page.screenshot(path=str(artifacts_dir / "dashboard-imported.png"))
 
         with Library.open(url) as lib:
