@@ -517,6 +517,13 @@ def _attempt(line: _Timeline, cfg: SimConfig, scene: _Scene, rng: np.random.Gene
     a_catch = rng.uniform(0.2, 0.5)
     n_catch = _steps((onset - v0) / a_catch)
     speed = v0 + (onset - v0) * np.arange(n_catch) / n_catch
+    # a slow catch from an inside position would run up the beach: angle it along the
+    # wave so that it ends at least 40 m out (the ride below keeps to 15 m and more)
+    catch_shoreward_m = float(np.sum(speed)) * DT_S * math.cos(angle)
+    room_m = max(line.x - 40.0, 0.0)
+    if catch_shoreward_m > room_m:
+        frac = room_m / catch_shoreward_m * math.cos(angle)
+        heading = math.pi - ride_dir * math.acos(frac)
     vx, vy = _heading_xy(speed, np.full(n_catch, heading))
     catch_start = line.add(PADDLE, vx, vy)
 
@@ -554,11 +561,14 @@ def _attempt(line: _Timeline, cfg: SimConfig, scene: _Scene, rng: np.random.Gene
                 np.full(n_dec + 1, beta0 + (math.radians(-60.0) if not fall else 0.0)),
             )
         )
-        shoreward_m = float(np.sum(speed * np.sin(beta))) * DT_S
-        if line.x - shoreward_m >= 15.0 or beta0 < 0.02:
+        # the whole path, not only its end, must stay outside the shallows: turns and the
+        # seaward kick-out can put the deepest point of a ride before its last one
+        deepest_shoreward_m = float(np.max(np.cumsum(speed * np.sin(beta)))) * DT_S
+        if line.x - deepest_shoreward_m >= 15.0:
             break
         beta0 *= 0.5
         beta_catch *= 0.6
+        turn *= 0.6
     # direction vector (-sin beta, dir * cos beta) in (x seaward, y alongshore)
     vx = -speed * np.sin(beta)
     vy = ride_dir * speed * np.cos(beta)
