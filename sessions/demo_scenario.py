@@ -118,17 +118,17 @@ RIDERS = (
 )
 
 BOARDS = (
-    DemoBoard("sprig-510", "Sprig 5'10\"", "Sprig", "1", (5, 10), (19, 1, 4), (2, 7, 16), 28.6, 2.6, "PU",
+    DemoBoard("sprig-510", "Sprig", "Sprig", "1", (5, 10), (19, 1, 4), (2, 7, 16), 28.6, 2.6, "PU",
               "thruster", 11.75, 14.5, -1.0, 9.0, "Everyday shortboard."),
-    DemoBoard("ridgeback-66", "Ridgeback 6'6\"", "Ridgeback", "1", (6, 6), (19, 3, 4), (2, 5, 8), 35.4, 3.0,
+    DemoBoard("ridgeback-66", "Ridgeback", "Ridgeback", "1", (6, 6), (19, 3, 4), (2, 5, 8), 35.4, 3.0,
               "PU", "thruster", 12.25, 14.0, 1.0, 7.5, "Step-up for overhead days, pulled-in tail."),
-    DemoBoard("moorhen-72", "Moorhen 7'2\"", "Moorhen", "1", (7, 2), (21, 0, 1), (2, 3, 4), 46.0, 3.9, "EPS",
+    DemoBoard("moorhen-72", "Moorhen", "Moorhen", "1", (7, 2), (21, 0, 1), (2, 3, 4), 46.0, 3.9, "EPS",
               "2+1", 16.0, 15.0, 0.0, 10.0, "Mid-length, full nose."),
-    DemoBoard("longmere-92", "Longmere 9'2\"", "Longmere", "1", (9, 2), (22, 1, 2), (3, 0, 1), 72.0, 6.6, "PU",
+    DemoBoard("longmere-92", "Longmere", "Longmere", "1", (9, 2), (22, 1, 2), (3, 0, 1), 72.0, 6.6, "PU",
               "single fin", 17.5, 15.0, 0.0, 11.0, "Classic longboard."),
-    DemoBoard("whimbrel-v1", "Whimbrel v1 6'0\"", "Whimbrel", "v1", (6, 0), (19, 1, 4), (2, 9, 16), 31.0, 2.8,
+    DemoBoard("whimbrel-v1", "Whimbrel v1", "Whimbrel", "v1", (6, 0), (19, 1, 4), (2, 9, 16), 31.0, 2.8,
               "PU", "thruster", 10.25, 12.5, -2.0, 5.0, "Prototype 1: narrow, pulled-in nose and tail."),
-    DemoBoard("whimbrel-v2", "Whimbrel v2 5'10\"", "Whimbrel", "v2", (5, 10), (21, 1, 4), (2, 5, 16), 31.0, 2.8,
+    DemoBoard("whimbrel-v2", "Whimbrel v2", "Whimbrel", "v2", (5, 10), (21, 1, 4), (2, 5, 16), 31.0, 2.8,
               "PU", "thruster", 15.75, 17.0, -0.5, 12.5, "Prototype 2: same litres, wider and fuller outline."),
 )  # fmt: skip
 
@@ -162,6 +162,14 @@ _SESSIONS = (
     ("s19", "2026-04-26", "07:30", "tobiah", "ridgeback-66", 1.7, 13, "light offshore (E)", "mid", 14.5, "1hz", 90, "", None),
     ("s20", "2026-04-29", "15:00", "bram", "longmere-92", 0.9, 9, "light onshore (W)", "high, falling", 14.8, "1hz", 100, "", None),
     ("s21", "2026-04-30", "08:20", "odile", "moorhen-72", 1.1, 10, "calm", "mid, rising", 14.9, "1hz", 75, "", None),
+    ("s22", "2026-05-02", "07:30", "tobiah", "whimbrel-v1", 1.3, 11, "light offshore (E)", "low, rising", 15.0, "1hz", 60, "",
+     (3, 3, 4, 5, "Late but solid entries; best board for the steeper sets.")),
+    ("s23", "2026-05-02", "08:50", "tobiah", "whimbrel-v2", 1.3, 11, "light offshore (E)", "mid, rising", 15.0, "1hz", 60, "",
+     (4, 4, 4, 3, "Into waves early; the rail feels soft in hard turns.")),
+    ("s24", "2026-05-06", "17:10", "tobiah", "whimbrel-v2", 0.9, 9, "light onshore (W)", "high", 15.3, "1hz", 55, "",
+     (5, 5, 3, 4, "Kept catching waves when the others struggled.")),
+    ("s25", "2026-05-06", "18:20", "tobiah", "whimbrel-v1", 0.9, 9, "light onshore (W)", "high, falling", 15.3, "1hz", 55, "",
+     (3, 2, 3, 4, "Slow, small evening waves: few good entries.")),
 )  # fmt: skip
 
 #: Share of attempts that become rides, by ability (model choice for the demo).
@@ -395,7 +403,7 @@ def _readme(summary: list[dict]) -> str:
         )
     lines += [
         "",
-        "What the sessions show: the Whimbrel test (s03, s04, s09, s10, s15, s16, with the",
+        "What the sessions show: the Whimbrel test (s03, s04, s09, s10, s15, s16, s22-s25, with the",
         "test rider's scores in the manifest) in small, medium and head-high surf; the same",
         "rider on three boards; four riders from 58 to 95 kg; a big day (s07, s08); small",
         "onshore days (s11, s12); sampling every second, at 5 Hz (s08, s18) and in the",
