@@ -401,11 +401,14 @@ class Outline:
             pairs.insert(0, (0.0, 0.0))
         x_m = tuple(x for x, _ in pairs)
         width_m = tuple(w for _, w in pairs)
-        outline = cls(x_m=x_m, width_m=width_m, source=source)
+        # ranges checked before the interpolant is built: absurd magnitudes would overflow in it
         low, high = LENGTH_RANGE_M
-        if not low <= outline.length_m <= high:
-            raise BoardSpecError(f"outline length {outline.length_m:.3f} m is outside {low:g}-{high:g} m")
+        if not low <= x_m[-1] <= high:
+            raise BoardSpecError(f"outline length {x_m[-1]:.4g} m is outside {low:g}-{high:g} m")
         wl, wh = WIDTH_RANGE_M
+        if not wl <= max(width_m) <= wh:
+            raise BoardSpecError(f"outline width {max(width_m):.4g} m is outside {wl:g}-{wh:g} m")
+        outline = cls(x_m=x_m, width_m=width_m, source=source)
         if not wl <= outline.max_width_m <= wh:
             raise BoardSpecError(f"outline width {outline.max_width_m:.3f} m is outside {wl:g}-{wh:g} m")
         return outline
@@ -515,6 +518,8 @@ class Outline:
 
 
 _CSV_UNITS = {"m": 1.0, "cm": 1e-2, "mm": 1e-3, "in": IN_M}
+#: Largest outline CSV that is read [bytes]; a measured outline has a few dozen stations.
+MAX_OUTLINE_BYTES = 1024 * 1024
 
 
 def read_outline_csv(path: str | Path) -> Outline:
@@ -531,23 +536,35 @@ def read_outline_csv(path: str | Path) -> Outline:
     """
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8-sig")
+        with open(path, "rb") as fh:
+            data = fh.read(MAX_OUTLINE_BYTES + 1)
+        if len(data) > MAX_OUTLINE_BYTES:
+            raise BoardSpecError(f"outline file {path.name} is larger than the limit of {MAX_OUTLINE_BYTES} bytes")
+        text = data.decode("utf-8-sig")
     except (OSError, UnicodeDecodeError) as exc:
-        raise BoardSpecError(f"cannot read outline file {path.name}: {exc}") from exc
-    rows = [row for row in csv.reader(line for line in text.splitlines() if line.strip() and not line.lstrip().startswith("#"))]
+        reason = exc.strerror if isinstance(exc, OSError) and exc.strerror else exc
+        raise BoardSpecError(f"cannot read outline file {path.name}: {reason}") from exc
+    if "\x00" in text:
+        raise BoardSpecError(f"outline file {path.name} is not a text file (it holds NUL bytes)")
+    try:
+        rows = [row for row in csv.reader(line for line in text.splitlines() if line.strip() and not line.lstrip().startswith("#"))]
+    except csv.Error as exc:  # e.g. a field over the csv module's size limit
+        raise BoardSpecError(f"outline file {path.name} is not a two-column CSV: {exc}") from exc
     if not rows:
         raise BoardSpecError(f"outline file {path.name} holds no stations")
     factors = (1.0, 1.0)
     if rows and not _is_number(rows[0][0] if rows[0] else ""):
         header = [h.strip().lower() for h in rows[0]]
         if len(header) != 2:
-            raise BoardSpecError(f"outline file {path.name}: the header must name two columns, got {rows[0]}")
+            shown = repr(rows[0]) if len(repr(rows[0])) <= 80 else repr(rows[0])[:77] + "..."
+            raise BoardSpecError(f"outline file {path.name}: the header must name two columns, got {shown}")
         factors = tuple(_unit_of_column(h, path.name) for h in header)  # type: ignore[assignment]
         rows = rows[1:]
     stations = []
     for number, row in enumerate(rows, start=1):
         if len(row) != 2 or not all(_is_number(c) for c in row):
-            raise BoardSpecError(f"outline file {path.name}: station {number} {row} is not two numbers")
+            shown = repr(row) if len(repr(row)) <= 80 else repr(row)[:77] + "..."
+            raise BoardSpecError(f"outline file {path.name}: station {number} {shown} is not two numbers")
         stations.append((float(row[0]) * factors[0], float(row[1]) * factors[1]))
     return Outline.from_stations(stations)
 

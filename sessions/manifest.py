@@ -458,10 +458,19 @@ def _feedback(raw: Any, file_name: str, where: str) -> Feedback:
 # ======================================================================================
 # Small helpers
 # ======================================================================================
+#: Largest manifest or board catalogue that is read [bytes]; real ones are a few kB.
+MAX_MANIFEST_BYTES = 8 * 1024 * 1024
+
+
 def _load(path: Path) -> dict:
     try:
         with open(path, "rb") as fh:
-            return tomllib.load(fh)
+            data = fh.read(MAX_MANIFEST_BYTES + 1)
+        if len(data) > MAX_MANIFEST_BYTES:
+            raise ManifestError(f"{path.name}: larger than the limit of {MAX_MANIFEST_BYTES} bytes")
+        return tomllib.loads(data.decode("utf-8"))
+    except RecursionError as exc:  # tomllib recurses once per level of nested arrays/tables
+        raise ManifestError(f"{path.name}: not valid TOML: nested too deeply") from exc
     except FileNotFoundError as exc:
         raise ManifestError(f"{path.name}: file does not exist") from exc
     except OSError as exc:
