@@ -556,15 +556,16 @@ def read_outline_csv(path: str | Path) -> Outline:
     if rows and not _is_number(rows[0][0] if rows[0] else ""):
         header = [h.strip().lower() for h in rows[0]]
         if len(header) != 2:
-            shown = repr(rows[0]) if len(repr(rows[0])) <= 80 else repr(rows[0])[:77] + "..."
-            raise BoardSpecError(f"outline file {path.name}: the header must name two columns, got {shown}")
-        factors = tuple(_unit_of_column(h, path.name) for h in header)  # type: ignore[assignment]
+            # the file's text is never echoed: a mistyped path may name a private file
+            raise BoardSpecError(f"outline file {path.name}: the first row must be two numbers or a header "
+                                 f"naming two columns; it has {len(header)} field(s)")
+        factors = tuple(_unit_of_column(h, path.name, i) for i, h in enumerate(header, 1))  # type: ignore[assignment]
         rows = rows[1:]
     stations = []
     for number, row in enumerate(rows, start=1):
         if len(row) != 2 or not all(_is_number(c) for c in row):
-            shown = repr(row) if len(repr(row)) <= 80 else repr(row)[:77] + "..."
-            raise BoardSpecError(f"outline file {path.name}: station {number} {shown} is not two numbers")
+            raise BoardSpecError(f"outline file {path.name}: station {number} is not two numbers "
+                                 f"({len(row)} field(s))")
         stations.append((float(row[0]) * factors[0], float(row[1]) * factors[1]))
     return Outline.from_stations(stations)
 
@@ -577,12 +578,12 @@ def _is_number(text: str) -> bool:
     return True
 
 
-def _unit_of_column(name: str, file_name: str) -> float:
+def _unit_of_column(name: str, file_name: str, number: int) -> float:
     for suffix, factor in sorted(_CSV_UNITS.items(), key=lambda kv: -len(kv[0])):
         if name.endswith("_" + suffix):
             return factor
-    raise BoardSpecError(
-        f"outline file {file_name}: column {name!r} does not end in a unit (_m, _cm, _mm or _in)"
+    raise BoardSpecError(  # the header is not echoed (the file may not be an outline at all)
+        f"outline file {file_name}: the name of column {number} does not end in a unit (_m, _cm, _mm or _in)"
     )
 
 

@@ -479,6 +479,10 @@ def _load(path: Path) -> dict:
         raise ManifestError(f"{path.name}: not valid TOML: {exc}") from exc
     except UnicodeDecodeError as exc:
         raise ManifestError(f"{path.name}: not UTF-8 text") from exc
+    except ManifestError:
+        raise
+    except ValueError as exc:  # e.g. an integer of more digits than Python converts
+        raise ManifestError(f"{path.name}: not valid TOML: {str(exc)[:120]}") from exc
 
 
 def _table(value: Any, file_name: str, where: str) -> dict:

@@ -376,6 +376,9 @@ def run_import(args) -> int:
         _print_json(summary.to_json())
     else:
         print(summary.describe())
+    if summary.refused and not summary.imported and not summary.already_present:
+        # nothing usable at all: say so on stderr and exit 2 (partial refusals exit 0)
+        raise LibraryInputError(f"no track imported: {len(summary.refused)} refused (reasons above)")
     return 0
 
 
