@@ -23,6 +23,17 @@ by the Bayesian information criterion (Schwarz 1978), and ``tau`` and ``Delta`` 
 polished on a fine local grid with a final parabolic step. Everything is vectorised
 over candidates and bootstrap replicates.
 
+When the caller passes the fixes themselves (``fix_xy_m``, ``track_xy_m``) and no device
+speed covers the window, the model is fitted to "chord" speeds instead of the smoothed
+speed: the displacement between consecutive fixes along the direction of travel divided
+by the time between them, i.e. the mean speed over each interval, which the model gives
+in closed form (:func:`interval_design`). A smoother's lag and blur depend on the speed
+(the analysis blends a slow and a fast pass by speed), so onsets taken from a smoothed
+speed are pulled toward the middle: low onsets read high, high onsets low. Chords carry
+no such distortion. Their window starts in the sprint paddle, so the model gets a fourth
+phase before the catch (paddling, any slope) whose length is profiled on a grid too, and
+only fits whose acceleration jumps at the onset are admitted.
+
 The 90 % intervals come from a parametric bootstrap (Efron & Tibshirani 1993, ch. 6)
 whose noise is a continuous-time first-order autoregressive process fitted to the
 residuals, so that the serial correlation of a smoothed series and irregular sampling
@@ -88,6 +99,13 @@ DURATIONS_S = (0.4, 0.8, 1.4, 2.4, 4.0, 6.5, 1.0e3)
 #: Durations tried on a device speed [s]: finer, since its sharp changes show them
 #: (and it is fitted without blur widths, so the finer grid costs no more).
 DURATIONS_RAW_S = (0.3, 0.5, 0.8, 1.1, 1.5, 2.0, 2.7, 3.6, 5.0, 7.0, 1.0e3)
+#: Durations tried on chord speeds [s]: coarser, since they are combined with the catch
+#: durations (and the polish step refines them).
+DURATIONS_CHORD_S = (0.5, 1.0, 2.0, 4.0, 1.0e3)
+#: Durations of the catch tried on chord speeds [s]: before it, the sprint paddle is a
+#: phase of its own (any slope), so that the displacement-mode line is fitted to the
+#: catch alone; 1e3 is "no separate paddling phase".
+CATCH_DURATIONS_S = (1.0, 2.0, 3.5, 6.0, 1.0e3)
 #: Most candidate onsets per profile.
 MAX_CANDIDATES = 40
 #: A smoothed series is thinned to at most this many samples per second before the fit
@@ -106,6 +124,14 @@ BOOT_DURATION_SPAN = 1
 #: seeds disjoint from the benchmark's (see docs/onset.md); recheck against real data.
 SMOOTHED_ALLOWANCE_MPS = 0.35
 SMOOTHED_ALLOWANCE_S = 0.6
+#: Fixes closer together than this are skipped when speeds are taken from the fixes
+#: themselves [s]: a shorter chord divides the fix's own white noise by a shorter time.
+MIN_CHORD_S = 0.9
+#: Extra spread of the onset speed [m/s] and instant [s] when the speed comes from the
+#: fixes (chords): the slowly varying part of the GNSS error that the residuals cannot
+#: show. Calibrated on simulated sessions with seeds disjoint from the benchmark's.
+CHORD_ALLOWANCE_MPS = 0.45
+CHORD_ALLOWANCE_S = 0.5
 #: Bootstrap replicates.
 N_BOOT = 150
 #: Two-sided level of the reported intervals.
@@ -181,6 +207,8 @@ def estimate_onset(
     reported_speed_mps=None,
     window: tuple[float, float] | None = None,
     seed: int = 0,
+    fix_xy_m=None,
+    track_xy_m=None,
 ) -> OnsetEstimate:
     """Estimate the planing onset (instant and speed, with 90 % intervals) of one ride.
 
@@ -202,6 +230,18 @@ def estimate_onset(
         acceleration end.
     seed : int
         Seed of the bootstrap; equal inputs and seed give equal results.
+    fix_xy_m : (array_like, array_like), optional
+        The fixes as measured, east and north in a local frame [m] (NaN for a fix not to
+        use, e.g. an outlier). With ``track_xy_m`` it replaces the smoothed speed (a
+        device speed still comes first): the speed over each interval between fixes is
+        the fixes' displacement along the direction of travel divided by the interval
+        (a "chord" speed), and the model is fitted to interval means, which it gives in
+        closed form. No smoother stands between the fixes and the fit, so the onset is
+        free of the smoother's lag and of its speed-dependent blur.
+    track_xy_m : (array_like, array_like), optional
+        The smoothed positions at the same times [m]; only their direction of travel is
+        used (the along-track projection keeps the noise of the fixes zero-mean, where
+        the length of a noisy displacement would be biased upward at low speeds).
 
     Returns
     -------
@@ -217,10 +257,12 @@ def estimate_onset(
     """
     with np.errstate(all="ignore"):  # absurd magnitudes end in the checks, not in warnings
         try:
-            t, y, sd, src = _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window)
+            t, y, sd, src, spans = _prepare(
+                t_s, speed_mps, speed_sd_mps, reported_speed_mps, window, fix_xy_m, track_xy_m
+            )
         except _Unusable as exc:
             return _none(exc.code, exc.detail)
-        est = _estimate_prepared(t, y, sd, src, seed)
+        est = _estimate_prepared(t, y, sd, src, seed, spans)
     numbers = [est.time_s, est.speed_mps, *(est.ci_mps or ()), *(est.time_ci_s or ())]
     if est.reason is None and not all(np.isfinite(x) for x in numbers):
         return _none(REASON_BAD_INPUT, "times or speeds too large for a fit")
@@ -248,10 +290,26 @@ def _as_1d(x, name: str, n: int | None) -> np.ndarray:
     return arr
 
 
-def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window):
+def _xy(pair, name: str, n: int) -> tuple[np.ndarray, np.ndarray]:
+    try:
+        x, y = pair
+    except (TypeError, ValueError):
+        raise _Unusable(REASON_BAD_INPUT, f"{name} is not a pair of arrays") from None
+    return _as_1d(x, f"{name}[0]", n), _as_1d(y, f"{name}[1]", n)
+
+
+def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window, fix_xy_m=None, track_xy_m=None):
+    """Samples to fit: times, speeds, SDs, the source and (for chords) the interval ends."""
     t = _as_1d(t_s, "t_s", None)
     n = len(t)
     v = _as_1d(speed_mps, "speed_mps", n)
+    if (fix_xy_m is None) != (track_xy_m is None):
+        raise _Unusable(REASON_BAD_INPUT, "fix_xy_m and track_xy_m come together")
+    if fix_xy_m is not None:
+        fx, fy = _xy(fix_xy_m, "fix_xy_m", n)
+        sx, sy = _xy(track_xy_m, "track_xy_m", n)
+    else:
+        fx = fy = sx = sy = np.full(n, np.nan)
     sd = _as_1d(speed_sd_mps, "speed_sd_mps", n) if speed_sd_mps is not None else np.full(n, np.nan)
     rep = (
         _as_1d(reported_speed_mps, "reported_speed_mps", n)
@@ -267,16 +325,22 @@ def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window):
         if not (np.isfinite(w0) and np.isfinite(w1)) or w1 <= w0:
             raise _Unusable(REASON_BAD_INPUT, f"window ({w0}, {w1}) is empty or not finite")
         keep &= (t >= w0) & (t <= w1 + MARGIN_AFTER_PEAK_S)
-    t, v, sd, rep = t[keep], v[keep], sd[keep], rep[keep]
-    order = np.argsort(t, kind="stable")
-    t, v, sd, rep = t[order], v[order], sd[order], rep[order]
-    if len(t):
-        first = np.concatenate(([True], np.diff(t) > 0))  # drop repeated times
-        t, v, sd, rep = t[first], v[first], sd[first], rep[first]
+    cols = [a[keep] for a in (t, v, sd, rep, fx, fy, sx, sy)]
+    order = np.argsort(cols[0], kind="stable")
+    cols = [a[order] for a in cols]
+    if len(cols[0]):
+        first = np.concatenate(([True], np.diff(cols[0]) > 0))  # drop repeated times
+        cols = [a[first] for a in cols]
+    t, v, sd, rep, fx, fy, sx, sy = cols
     n_rep = int(np.isfinite(rep).sum())
     if len(t) and n_rep >= REPORTED_MIN_COVERAGE * len(t) and n_rep >= MIN_SAMPLES:
         ok = np.isfinite(rep)
-        return t[ok], rep[ok], np.full(int(ok.sum()), np.nan), "reported"
+        return t[ok], rep[ok], np.full(int(ok.sum()), np.nan), "reported", None
+    if fix_xy_m is not None:
+        ta, tb, chord = _chord_speeds(t, fx, fy, sx, sy, MIN_CHORD_S)
+        if len(chord) >= MIN_SAMPLES:
+            return 0.5 * (ta + tb), chord, np.full(len(chord), np.nan), "fixes", (ta, tb)
+        # too few fixes for chords (sparse sampling): fall back to the smoothed speed
     ok = np.isfinite(v)
     if len(t) and ok.sum() < len(t):
         # fill the smoothed speed's holes with the device speed where present
@@ -288,7 +352,37 @@ def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window):
         t, v, sd = _thin(t, v, sd, MAX_RATE_SMOOTHED_HZ)
     if len(t) < MIN_SAMPLES:
         raise _Unusable(REASON_TOO_FEW, f"{len(t)} valid speed samples in the window, need {MIN_SAMPLES}")
-    return t, v, sd, "smoothed"
+    return t, v, sd, "smoothed", None
+
+
+def _chord_speeds(t, fx, fy, sx, sy, min_chord_s):
+    """Mean speed over each interval between usable fixes, along the direction of travel.
+
+    Fixes with a non-finite position are skipped, and so are fixes closer than
+    ``min_chord_s`` to the last one kept. For the interval from fix ``a`` to fix ``b``
+    the speed is ``(f_b - f_a) . u / (t_b - t_a)`` with ``u`` the unit direction of the
+    smoothed positions over the same interval; where the smoothed track barely moves
+    (under 1 cm) the length of the fixes' displacement is used instead. Returns the
+    interval starts, ends and speeds [s, s, m/s].
+    """
+    ok = np.isfinite(t) & np.isfinite(fx) & np.isfinite(fy) & np.isfinite(sx) & np.isfinite(sy)
+    idx = np.flatnonzero(ok)
+    if len(idx) < 2:
+        return np.empty(0), np.empty(0), np.empty(0)
+    kept = [idx[0]]
+    for i in idx[1:]:
+        if t[i] - t[kept[-1]] >= min_chord_s:
+            kept.append(i)
+    k = np.asarray(kept)
+    a, b = k[:-1], k[1:]
+    dt = t[b] - t[a]
+    dfx, dfy = fx[b] - fx[a], fy[b] - fy[a]
+    dsx, dsy = sx[b] - sx[a], sy[b] - sy[a]
+    norm = np.hypot(dsx, dsy)
+    moving = norm > 0.01
+    safe = np.where(moving, norm, 1.0)
+    along = np.where(moving, (dfx * dsx + dfy * dsy) / safe, np.hypot(dfx, dfy))
+    return t[a], t[b], along / dt
 
 
 def _thin(t, v, sd, max_rate_hz):
@@ -298,7 +392,7 @@ def _thin(t, v, sd, max_rate_hz):
     return t[first], v[first], sd[first]
 
 
-def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, seed: int) -> OnsetEstimate:
+def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, seed: int, spans=None) -> OnsetEstimate:
     n = len(t)
     dt = np.diff(t)
     dt_med = float(np.median(dt))
@@ -315,10 +409,19 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     cand = _candidates(tc, MIN_SIDE, MAX_CANDIDATES)
     if len(cand) < 3:
         return _none(REASON_TOO_FEW, f"{n} samples leave no room for a break with {MIN_SIDE} samples each side")
-    widths = np.asarray(BLUR_WIDTHS_S if src == "smoothed" else (0.0,))
-    durations = np.asarray(DURATIONS_S if src == "smoothed" else DURATIONS_RAW_S)
+    # the first grid axis: blur widths of a smoothed speed, catch durations of chords
+    widths = np.asarray(BLUR_WIDTHS_S if src == "smoothed" else CATCH_DURATIONS_S if src == "fixes" else (0.0,))
+    durations = np.asarray({"smoothed": DURATIONS_S, "fixes": DURATIONS_CHORD_S}.get(src, DURATIONS_RAW_S))
+    if spans is None:
+        def make_design(onsets, durs, ws):
+            return phase_design(tc, onsets, durs, ws)
+    else:  # interval means of the sharp model (no blur: no smoother in between)
+        ta, tb = spans[0] - t0, spans[1] - t0
 
-    design = phase_design(tc, cand, durations, widths)  # (W, D, M, n, 4)
+        def make_design(onsets, durs, ws):
+            return interval_design(ta, tb, onsets, durs, ws)
+
+    design = make_design(cand, durations, widths)  # (W, D, M, n, 4)
     grid_shape = design.shape[:3]
     n_p = design.shape[-1]
     design = design.reshape(-1, n, n_p)
@@ -328,11 +431,11 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
 
     # parameters per (width, duration) pair: a, b1, b2 and the onset; b3 and the
     # duration when the planing acceleration ends; the blur width when it is not 0
-    n_params = (4 + 2 * (durations < 1e3)[None, :] + (widths > 0)[:, None]).reshape(-1)
+    n_params = (4 + 2 * (durations < 1e3)[None, :] + _axis_params(widths, src)[:, None]).reshape(-1)
     fit = _best_fits(design, gram_inv, ok, y[None, :], cand, grid_shape, n_params)
     if fit["flat"][0] < 0:
         return _none(REASON_NO_CHANGE, "no fit with a steady or rising first phase")
-    tau, onset_speed, beta, fitted = _polish(tc, y, cand, widths, durations, fit)
+    tau, onset_speed, beta, fitted = _polish(make_design, tc, y, cand, widths, durations, fit)
     b1, b2 = float(beta[1]), float(beta[2])
 
     # dropout at the change
@@ -356,7 +459,7 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     # over the onset grid at the best blur width and the neighbouring durations
     resid = y - fitted
     n_par = int(n_params[int(fit["iw"][0]) * len(durations) + int(fit["idur"][0])])
-    w_best = float(widths[int(fit["iw"][0])])
+    w_best = float(widths[int(fit["iw"][0])]) if src == "smoothed" else 0.0
     sigma, corr_time = _noise_model(tc, resid, n_par, min_corr_time_s=np.sqrt(np.pi) * w_best)
     rng = _generator(seed)
     ystar = fitted[None, :] + _ou_noise(tc, sigma, corr_time, N_BOOT, rng)  # (B, n)
@@ -367,7 +470,9 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     sub_shape = sub.shape
     sub = sub.reshape(-1)
     sub_params = n_params.reshape(grid_shape[:2])[sw, sdur].reshape(-1)
-    boot = _best_fits(design[sub], gram_inv[sub], ok[sub], ystar, cand, sub_shape, sub_params)
+    # the replicates are fitted without requiring a take-off, so that the share of them
+    # that show one tests whether the change is clear
+    boot = _best_fits(design[sub], gram_inv[sub], ok[sub], ystar, cand, sub_shape, sub_params, take_off_only=False)
     good = boot["flat"] >= 0
     took_off = np.mean(good & _took_off(boot["coef"][1], boot["coef"][2]))
     if took_off < 0.5 + LEVEL / 2:
@@ -376,10 +481,14 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
             f"the change of acceleration is not clear: present in {100 * took_off:.0f} % of resamples",
         )
     tau_b, speed_b = boot["tau"][good], boot["speed"][good]
-    if src == "smoothed":
-        # allowance for the smoother's own distortion, which residuals cannot show
-        tau_b = tau_b + rng.normal(0.0, SMOOTHED_ALLOWANCE_S, size=tau_b.shape)
-        speed_b = speed_b + rng.normal(0.0, SMOOTHED_ALLOWANCE_MPS, size=speed_b.shape)
+    if src in ("smoothed", "fixes"):
+        # allowance for errors the residuals cannot show: the smoother's own distortion,
+        # or the slowly varying part of the GNSS error in the fixes
+        extra_s, extra_mps = (
+            (SMOOTHED_ALLOWANCE_S, SMOOTHED_ALLOWANCE_MPS) if src == "smoothed" else (CHORD_ALLOWANCE_S, CHORD_ALLOWANCE_MPS)
+        )
+        tau_b = tau_b + rng.normal(0.0, extra_s, size=tau_b.shape)
+        speed_b = speed_b + rng.normal(0.0, extra_mps, size=speed_b.shape)
     lo_q, hi_q = (1 - LEVEL) / 2, (1 + LEVEL) / 2
     t_lo, t_hi = np.quantile(tau_b, [lo_q, hi_q])
     v_lo, v_hi = np.quantile(speed_b, [lo_q, hi_q])
@@ -400,7 +509,7 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
 
 
 # --- pure functions -----------------------------------------------------------------
-def _polish(tc, y, cand, widths, durations, fit):
+def _polish(make_design, tc, y, cand, widths, durations, fit):
     """Refine the onset on a fine local grid at the chosen blur width.
 
     The profile over onsets is kinked at the samples, so the parabola through the
@@ -421,16 +530,24 @@ def _polish(tc, y, cand, widths, durations, fit):
     d = np.geomspace(finite.min(), finite.max(), POLISH_DURATIONS) if len(finite) > 1 else finite
     if (near >= 1e3).any():
         d = np.append(d, 1e3)
-    design = phase_design(tc, fine, d, w).reshape(len(d) * len(fine), len(tc), -1)
+    design = make_design(fine, d, w).reshape(len(d) * len(fine), len(tc), -1)
     gram_inv, ok = _gram_inverse(design)
-    k = 4 + 2 * (d < 1e3) + (w[0] > 0)
+    k = 4 + 2 * (d < 1e3) + _axis_params(w, "fixes" if design.shape[-1] == 5 else "smoothed")
     res = _best_fits(design, gram_inv, ok, y[None, :], fine, (1, len(d), len(fine)), k)
     if res["flat"][0] < 0:  # keep the coarse fit
-        coarse = phase_design(tc, cand[j : j + 1], d, w).reshape(1, len(tc), -1)[0]
+        coarse = make_design(cand[j : j + 1], d, w).reshape(1, len(tc), -1)[0]
         beta = fit["coef"][:, 0]
         return float(fit["tau"][0]), float(fit["speed"][0]), beta, coarse @ beta
     beta = res["coef"][:, 0]
     return float(res["tau"][0]), float(res["speed"][0]), beta, design[int(res["flat"][0])] @ beta
+
+
+def _axis_params(widths: np.ndarray, src: str) -> np.ndarray:
+    """Parameters that the first grid axis adds: the blur width, or the catch duration
+    and the paddling slope before it (none for "no separate catch", 1e3)."""
+    if src == "fixes":
+        return 2 * (np.asarray(widths) < 1e3)
+    return 1 * (np.asarray(widths) > 0)
 
 
 def _generator(seed) -> np.random.Generator:
@@ -501,6 +618,61 @@ def phase_design(t: np.ndarray, onsets: np.ndarray, durations: np.ndarray, width
     return np.stack((np.ones(shape), x1 - p1, p1 - p2, p2), axis=-1)
 
 
+def _half_square(x: np.ndarray) -> np.ndarray:
+    """max(x, 0)^2 / 2: the antiderivative of the ramp (x)_+."""
+    xp = np.maximum(x, 0.0)
+    return 0.5 * xp * xp
+
+
+def _half_neg_square(x: np.ndarray) -> np.ndarray:
+    """min(x, 0)^2 / 2: the antiderivative of (x)_-."""
+    xn = np.minimum(x, 0.0)
+    return 0.5 * xn * xn
+
+
+def interval_design(t_start, t_end, onsets, durations, catch_durations=(1.0e3,)) -> np.ndarray:
+    """Design matrices of the sharp three-phase model averaged over intervals.
+
+    A speed taken from two fixes is the mean of the true speed between them, so each
+    column of :func:`phase_design` (without blur) is replaced by its mean over the
+    interval ``[t_start, t_end]``: ``(F(t_end) - F(t_start)) / (t_end - t_start)`` with
+    ``F`` the column's antiderivative, ``F = t`` for the constant,
+    ``x^2/2 - (x)_+^2/2`` for ``(x)_-`` and ``(x)_+^2/2`` for ``(x)_+``. The model stays
+    linear in its coefficients, and the onset can be placed inside an interval, whose
+    mean depends on where in it the break lies.
+
+    Parameters
+    ----------
+    t_start, t_end : ndarray, shape (n,)
+        Interval ends [s], ``t_end > t_start``.
+    onsets : ndarray, shape (M,)
+    durations : ndarray, shape (D,)
+
+    Returns
+    -------
+    ndarray, shape (1, D, M, n, 4)
+        Same layout and coefficients as :func:`phase_design` with one blur width, 0.
+    """
+    ta = np.asarray(t_start, dtype=float)
+    tb = np.asarray(t_end, dtype=float)
+    tau = np.asarray(onsets, dtype=float)[None, :, None]
+    dur = np.asarray(durations, dtype=float)[:, None, None]
+    length = (tb - ta)[None, None, :]
+    a1, b1 = ta[None, None, :] - tau, tb[None, None, :] - tau  # (1, M, n)
+    a2, b2 = a1 - dur, b1 - dur  # (D, M, n)
+    ramp1 = (_half_square(b1) - _half_square(a1)) / length
+    ramp2 = (_half_square(b2) - _half_square(a2)) / length
+    shape = (len(dur), tau.shape[1], len(ta))
+    ramp1 = np.broadcast_to(ramp1, shape)
+    neg1 = np.broadcast_to((_half_neg_square(b1) - _half_neg_square(a1)) / length, shape)
+    out = []
+    for c in np.asarray(catch_durations, dtype=float).reshape(-1):
+        # paddling before the catch: (x + C)_-, and the catch (x)_- - (x + C)_-
+        neg0 = np.broadcast_to((_half_neg_square(b1 + c) - _half_neg_square(a1 + c)) / length, shape)
+        out.append(np.stack((np.ones(shape), neg1 - neg0, ramp1 - ramp2, ramp2, neg0), axis=-1))
+    return np.stack(out)
+
+
 def _candidates(t: np.ndarray, min_side: int, max_count: int) -> np.ndarray:
     n = len(t)
     lo, hi = t[min_side - 1], t[n - min_side]
@@ -527,7 +699,8 @@ def _gram_inverse(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """
     n = design.shape[1]
     gram = np.matmul(design.transpose(0, 2, 1), design)
-    gram[:, 3, 3] += 1e-9 * n
+    for i in range(3, gram.shape[1]):
+        gram[:, i, i] += 1e-9 * n
     diag = np.sqrt(np.einsum("kpp->kp", gram))
     with np.errstate(all="ignore"):
         scaled = gram / (diag[:, :, None] * diag[:, None, :])
@@ -546,7 +719,7 @@ def _gram_inverse(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return inv, ok
 
 
-def _best_fits(design, gram_inv, ok, y, cand, grid_shape, n_params) -> dict:
+def _best_fits(design, gram_inv, ok, y, cand, grid_shape, n_params, take_off_only: bool = True) -> dict:
     """Best onset, duration and blur width for every series in y (B, n).
 
     The (blur width, duration) pair is chosen by the Bayesian information criterion
@@ -556,7 +729,9 @@ def _best_fits(design, gram_inv, ok, y, cand, grid_shape, n_params) -> dict:
 
     Fits whose first phase slows down (slope below -:data:`MAX_FIRST_DECEL_MPS2`), whose
     planing phase does not speed up, or whose third phase speeds up faster than the
-    planing phase are not admitted. Returns a dict of arrays over
+    planing phase are not admitted; with ``take_off_only`` neither are fits whose planing
+    acceleration is not clearly above the displacement one (:func:`_took_off`): the
+    onset is by definition where the acceleration jumps. Returns a dict of arrays over
     the B series: ``tau`` (refined onset), ``speed`` (value at the onset), ``flat``
     (index of the best design, -1 when none is admissible), ``iw``/``idur`` (its blur
     width and duration indices) and ``coef`` (p, B), the coefficients there.
@@ -566,6 +741,8 @@ def _best_fits(design, gram_inv, ok, y, cand, grid_shape, n_params) -> dict:
     rss, coef = _profile(design, gram_inv, y)  # (K, B), (K, B, p)
     b2 = coef[:, :, 2]
     admissible = ok[:, None] & (coef[:, :, 1] >= -MAX_FIRST_DECEL_MPS2) & (b2 > 0) & (coef[:, :, 3] <= b2)
+    if take_off_only:
+        admissible &= _took_off(coef[:, :, 1], b2)
     rss = np.where(admissible, rss, np.inf)
     rss3 = rss.reshape(n_w * n_d, n_c, n_b)
     n = y.shape[1]

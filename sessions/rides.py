@@ -258,6 +258,13 @@ def _apply_onset(ride: Ride, cond, seed: int, lead_s: float = 0.0) -> None:
         reported_speed_mps=rep if np.isfinite(rep).any() else None,
         window=(lo, hi),
         seed=seed,
+        # the onset is fitted to the fixes themselves: the smoothed speed's lag and blur
+        # depend on the speed and would pull onsets toward the middle
+        fix_xy_m=(
+            np.where(cond.rejected[i0:i1], np.nan, cond.raw_x_m[i0:i1]),
+            np.where(cond.rejected[i0:i1], np.nan, cond.raw_y_m[i0:i1]),
+        ),
+        track_xy_m=(cond.x_m[i0:i1], cond.y_m[i0:i1]),
     )
     ride.onset_reason = est.reason
     if est.speed_mps is None or est.time_s is None:
