@@ -24,6 +24,7 @@ local rules and lifeguards.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -121,9 +122,14 @@ class SessionAnalysis:
     def start(self) -> pd.Timestamp:
         return self.track.start
 
+    @functools.cached_property
+    def _start(self) -> pd.Timestamp:
+        # looked up once: to_json converts thousands of offsets
+        return self.track.start
+
     def time_at(self, t_s: float) -> pd.Timestamp:
         """UTC time of a ``t_s`` offset."""
-        return self.track.start + pd.Timedelta(seconds=float(t_s))
+        return self._start + pd.Timedelta(seconds=float(t_s))
 
     def iso_at(self, t_s: float) -> str:
         return iso_utc(self.time_at(t_s))

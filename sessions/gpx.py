@@ -292,11 +292,12 @@ def _gunzip(raw: bytes, name: str, max_bytes: int) -> bytes:
 _DECL_RE = re.compile(rb"^<\?xml[^>]*?\?>")
 _ENC_RE = re.compile(rb"""encoding\s*=\s*["']([A-Za-z][A-Za-z0-9._-]*)["']""")
 _UTF8_NAMES = {"utf-8", "utf8", "us-ascii", "ascii"}
+_LEADING_WS_RE = re.compile(rb"\s*")
 
 
 def _to_utf8(data: bytes, name: str) -> bytes:
     """Return the document as UTF-8 bytes without BOM; transcode other encodings."""
-    if not data.strip():
+    if _LEADING_WS_RE.match(data).end() == len(data):  # (data.strip() would copy the document)
         raise NotXMLError(f"{name}: empty file, not XML")
     codec = None
     if data[:3] == codecs.BOM_UTF8:
@@ -340,8 +341,8 @@ def _guard(data: bytes, name: str) -> None:
             f"{name}: contains a <!{what}> declaration; DTDs and entities are never "
             "expanded (they can hide entity bombs or read local files), so the file is refused"
         )
-    head = data.lstrip()[:1]
-    if head != b"<":
+    head = _LEADING_WS_RE.match(data).end()  # no copy of the document (lstrip would make one)
+    if data[head : head + 1] != b"<":
         raise NotXMLError(f"{name}: not XML (the text does not begin with '<')")
 
 
@@ -521,6 +522,7 @@ _IS_WS[[ord(c) for c in " \t\n\r"]] = True
 _IS_DELIM = _IS_WS.copy()
 _IS_DELIM[[ord("/"), ord(">")]] = True
 _HEAD = 16  # bytes after each '<' looked at for the tag name
+_GATHER_BLOCK = 8192  # ranges gathered at once (bounds the temporary position arrays)
 _NAME_RE = re.compile(rb"[^\s/>]+")
 _PT_RE = re.compile(rb'<trkpt\s+(?:lat="([^"&<]*)"\s+lon="([^"&<]*)"|lon="([^"&<]*)"\s+lat="([^"&<]*)")\s*>')
 
@@ -557,25 +559,39 @@ def _extract_fast(data: bytes, info: _RootInfo) -> _RawPoints | None:
 
 
 class _Tags:
-    """Positions, names and depths of all tags of a screened document."""
+    """Positions, names and depths of all tags of a screened document.
+
+    Memory: a view of the document (no copy), 4-byte positions and depths, and the
+    16-byte name window per tag; about 2.5 times the document for a track file.
+    """
 
     def __init__(self, data: bytes):
-        arr = np.frombuffer(data + b" " * (_HEAD + 1), dtype=np.uint8)  # padded for the windows
-        lt = np.flatnonzero(arr == ord("<"))
-        gt = np.flatnonzero(arr == ord(">"))
+        arr = np.frombuffer(data, dtype=np.uint8)
+        index_t = np.int32 if len(arr) < 2**31 - _HEAD else np.int64
+        lt = np.flatnonzero(arr == ord("<")).astype(index_t)
+        gt = np.flatnonzero(arr == ord(">")).astype(index_t)
         if len(lt) != len(gt) or len(lt) == 0 or np.any(gt < lt) or np.any(lt[1:] < gt[:-1]):
             raise _NoFastPath("'>' outside tag ends")
         self.data, self.arr, self.lt, self.gt = data, arr, lt, gt
-        self.win = np.ascontiguousarray(np.lib.stride_tricks.sliding_window_view(arr, _HEAD)[lt + 1])
+        # the 16 bytes after each '<'; a window running past the end is padded with spaces
+        last = len(arr) - _HEAD
+        if last >= 0:
+            self.win = np.lib.stride_tricks.sliding_window_view(arr, _HEAD)[np.minimum(lt + 1, last)]
+        else:
+            self.win = np.zeros((len(lt), _HEAD), dtype=np.uint8)
+        for j in np.flatnonzero(lt + 1 > last):  # at most a few tags near the end
+            tail = data[int(lt[j]) + 1 :]
+            self.win[j] = np.frombuffer((tail + b" " * _HEAD)[:_HEAD], dtype=np.uint8)
         self.win64 = self.win.view("<u8")  # two 8-byte words per tag
-        second = arr[lt + 1]
+        second = self.win[:, 0]
         self.closing = second == ord("/")
         self.empty = arr[gt - 1] == ord("/")
-        decl = second == ord("?")
-        step = np.where(self.closing, -1, np.where(self.empty | decl, 0, 1))
-        if step.sum() != 0:
+        step = np.ones(len(lt), dtype=np.int8)
+        step[self.empty | (second == ord("?"))] = 0
+        step[self.closing] = -1
+        if step.sum(dtype=np.int64) != 0:
             raise _NoFastPath("depth count does not return to zero")
-        self.depth = np.cumsum(step) - step  # 0 for the root element, 1 for its children
+        self.depth = np.cumsum(step, dtype=np.int32) - step  # 0 for the root element, 1 for its children
 
     def named(self, name: bytes, *, closing: bool = False) -> np.ndarray:
         """Mask of start (or end) tags with exactly this name (up to 15 bytes)."""
@@ -597,13 +613,20 @@ class _Tags:
         return rows.view(f"S{_HEAD}").ravel(), ~found
 
     def gather(self, first: np.ndarray, last: np.ndarray) -> bytes:
-        """The bytes of the ranges ``first[i]..last[i]`` (inclusive), concatenated."""
-        lengths = last - first + 1
-        if len(lengths) == 0:
-            return b""
-        offsets = np.cumsum(lengths) - lengths
-        pos = np.arange(int(lengths.sum())) - np.repeat(offsets - first, lengths)
-        return self.arr[pos].tobytes()
+        """The bytes of the ranges ``first[i]..last[i]`` (inclusive), concatenated.
+
+        Done in blocks of ranges so that the byte positions never take more than a few
+        megabytes, whatever the size of the document.
+        """
+        first = first.astype(np.int64)
+        lengths = last.astype(np.int64) - first + 1
+        out = []
+        for a in range(0, len(lengths), _GATHER_BLOCK):
+            ln, fi = lengths[a : a + _GATHER_BLOCK], first[a : a + _GATHER_BLOCK]
+            offsets = np.cumsum(ln) - ln
+            pos = np.arange(int(ln.sum())) - np.repeat(offsets - fi, ln)
+            out.append(self.arr[pos].tobytes())
+        return b"".join(out)
 
     def texts(self, idx: np.ndarray) -> list[bytes]:
         """Text between each tag's '>' and the next '<' (which XML text cannot contain)."""
@@ -813,6 +836,7 @@ def _assemble(raw: _RawPoints, info: _RootInfo, *, name: str, sha256: str, gap_s
             lat = arr
         else:
             lon = arr
+    raw.lat = raw.lon = []  # the texts are no longer needed: free them before the times
 
     # times
     tstr = np.strings.strip(np.asarray(raw.time, dtype=str))
@@ -822,6 +846,8 @@ def _assemble(raw: _RawPoints, info: _RootInfo, *, name: str, sha256: str, gap_s
         raise NoTimestampsError(f"{name}: none of the {n} track points has a <time>; floatlift needs timed points")
     keep = np.flatnonzero(timed)
     t_ns = _parse_times(tstr[keep] if n_timed < n else tstr, keep, name, locate)
+    del tstr
+    raw.time = []
 
     ele, bad_ele = _to_float(raw.ele, missing_ok=True)
     spd, bad_spd = _to_float(raw.speed, missing_ok=True)
@@ -941,7 +967,12 @@ def _parse_times_numpy(arr: np.ndarray) -> np.ndarray:
     tail = st.slice(arr, -6, None)
     sign = st.slice(tail, 0, 1)
     offset = ~zulu & ((sign == "+") | (sign == "-")) & (st.slice(tail, 3, 4) == ":") & (st.str_len(arr) > 16)
-    local = np.where(zulu, st.slice(arr, 0, -1), np.where(offset, st.slice(arr, 0, -6), arr))
+    if zulu.all():  # the usual case: one copy, not three
+        local = st.slice(arr, 0, -1)
+    elif not (zulu.any() or offset.any()):
+        local = arr
+    else:
+        local = np.where(zulu, st.slice(arr, 0, -1), np.where(offset, st.slice(arr, 0, -6), arr))
     # strict shape: YYYY-MM-DDThh:mm (numpy alone would also take "today", "NaT", +years)
     if not (
         np.all(st.isdecimal(st.slice(local, 0, 4)))
