@@ -9,11 +9,35 @@ and format; nothing is computed here.
 from __future__ import annotations
 
 import argparse
+import functools
 import json
 import re
 import sys
 
 CAUTION = "Estimates only: surf within your ability and follow local rules and lifeguards."
+
+
+# --- database failures ------------------------------------------------------------------------
+def _store_guard(run):
+    """Wrap a command so a database failure met mid-way (server restarted or gone, disk full,
+    read-only file) reaches the user as one line (:class:`StoreError`), never a traceback.
+
+    Every write is its own transaction, so what was stored before the failure stays whole.
+    """
+
+    @functools.wraps(run)
+    def guarded(args):
+        import sqlalchemy as sa
+
+        from sessions.errors import StoreError
+        from sessions.store import db
+
+        try:
+            return run(args)
+        except sa.exc.DBAPIError as exc:  # the driver's error: no SQL text or parameters shown
+            raise StoreError(f"the library database failed: {db._short(exc)}") from exc
+
+    return guarded
 
 
 # --- shared options -------------------------------------------------------------------------
@@ -90,31 +114,31 @@ def register(subparsers) -> None:
     _jobs_options(p)
     _db_option(p)
     _json_option(p)
-    p.set_defaults(func=run_import)
+    p.set_defaults(func=_store_guard(run_import))
 
     p = subparsers.add_parser("list", help="list the sessions in the library")
     _filter_options(p)
     _db_option(p)
     _json_option(p)
-    p.set_defaults(func=run_list)
+    p.set_defaults(func=_store_guard(run_list))
 
     p = subparsers.add_parser("show", help="show one stored session with its rides")
     p.add_argument("session_id", type=int, metavar="ID")
     _db_option(p)
     _json_option(p)
-    p.set_defaults(func=run_show)
+    p.set_defaults(func=_store_guard(run_show))
 
     p = subparsers.add_parser("assign", help="set the rider and/or board of stored sessions")
     p.add_argument("session_ids", type=int, nargs="+", metavar="ID")
     p.add_argument("--rider", metavar="NAME", help="rider name ('' removes the link)")
     p.add_argument("--board", metavar="NAME", help="board name ('' removes the link)")
     _db_option(p)
-    p.set_defaults(func=run_assign)
+    p.set_defaults(func=_store_guard(run_assign))
 
     p = subparsers.add_parser("delete", help="remove a stored session (its track, rides, feedback)")
     p.add_argument("session_ids", type=int, nargs="+", metavar="ID")
     _db_option(p)
-    p.set_defaults(func=run_delete)
+    p.set_defaults(func=_store_guard(run_delete))
 
     p = subparsers.add_parser(
         "reanalyse", help="re-run the analysis of stored sessions from their stored tracks",
@@ -125,7 +149,7 @@ def register(subparsers) -> None:
     _jobs_options(p)
     _db_option(p)
     _json_option(p)
-    p.set_defaults(func=run_reanalyse)
+    p.set_defaults(func=_store_guard(run_reanalyse))
 
     _register_rider(subparsers)
     _register_board(subparsers)
@@ -137,14 +161,14 @@ def register(subparsers) -> None:
     p.add_argument("--note", metavar="TEXT", help="free text")
     _db_option(p)
     _json_option(p)
-    p.set_defaults(func=run_feedback)
+    p.set_defaults(func=_store_guard(run_feedback))
 
     p = subparsers.add_parser("conditions", help="record the conditions of a session")
     p.add_argument("session_id", type=int, metavar="ID")
     _conditions_options(p)
     _db_option(p)
     _json_option(p)
-    p.set_defaults(func=run_conditions)
+    p.set_defaults(func=_store_guard(run_conditions))
 
     p = subparsers.add_parser("export", help="write rides or sessions to CSV or Parquet")
     p.add_argument("table", choices=("rides", "sessions"))
@@ -152,7 +176,7 @@ def register(subparsers) -> None:
     p.add_argument("--format", choices=("csv", "parquet"), help="default: from the file name")
     _filter_options(p)
     _db_option(p)
-    p.set_defaults(func=run_export)
+    p.set_defaults(func=_store_guard(run_export))
 
     p = subparsers.add_parser(
         "demo", help="build a demo library from the invented sample scenario",
@@ -163,7 +187,7 @@ def register(subparsers) -> None:
     p.add_argument("--db", metavar="URL", default=None,
                    help="build into this (empty) database instead of the demo file in your data folder")
     _json_option(p)
-    p.set_defaults(func=run_demo)
+    p.set_defaults(func=_store_guard(run_demo))
 
 
 def _register_rider(subparsers) -> None:
@@ -185,20 +209,20 @@ def _register_rider(subparsers) -> None:
     q = sub.add_parser("add", help="add a rider")
     q.add_argument("name", metavar="NAME")
     common(q, True)
-    q.set_defaults(func=run_rider_add)
+    q.set_defaults(func=_store_guard(run_rider_add))
     q = sub.add_parser("edit", help="change a rider (a new --mass is added to the mass history)")
     q.add_argument("name", metavar="NAME")
     common(q, False)
-    q.set_defaults(func=run_rider_edit)
+    q.set_defaults(func=_store_guard(run_rider_edit))
     q = sub.add_parser("list", help="list riders")
     _db_option(q)
     _json_option(q)
-    q.set_defaults(func=run_rider_list)
+    q.set_defaults(func=_store_guard(run_rider_list))
     q = sub.add_parser("show", help="show a rider with the mass history")
     q.add_argument("name", metavar="NAME")
     _db_option(q)
     _json_option(q)
-    q.set_defaults(func=run_rider_show)
+    q.set_defaults(func=_store_guard(run_rider_show))
 
 
 def _register_board(subparsers) -> None:
@@ -224,20 +248,20 @@ def _register_board(subparsers) -> None:
     q = sub.add_parser("add", help="add a board")
     q.add_argument("name", metavar="NAME")
     common(q, True)
-    q.set_defaults(func=run_board_add)
+    q.set_defaults(func=_store_guard(run_board_add))
     q = sub.add_parser("edit", help="change a board")
     q.add_argument("name", metavar="NAME")
     common(q, False)
-    q.set_defaults(func=run_board_edit)
+    q.set_defaults(func=_store_guard(run_board_edit))
     q = sub.add_parser("list", help="list boards")
     _db_option(q)
     _json_option(q)
-    q.set_defaults(func=run_board_list)
+    q.set_defaults(func=_store_guard(run_board_list))
     q = sub.add_parser("show", help="show a board")
     q.add_argument("name", metavar="NAME")
     _db_option(q)
     _json_option(q)
-    q.set_defaults(func=run_board_show)
+    q.set_defaults(func=_store_guard(run_board_show))
 
 
 # --- helpers -----------------------------------------------------------------------------------

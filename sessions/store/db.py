@@ -191,7 +191,12 @@ def _file_lock(engine: Engine):
     except ImportError:  # pragma: no cover - not POSIX
         yield
         return
-    with open(path.with_name(path.name + ".migrate-lock"), "a+b") as fh:
+    try:
+        fh = open(path.with_name(path.name + ".migrate-lock"), "a+b")  # noqa: SIM115 - closed below
+    except OSError as exc:  # e.g. a read-only folder
+        raise StoreError(f"cannot prepare the library at {mask_url(engine.url)}: cannot create its lock file "
+                         f"beside it ({exc.strerror or exc})") from exc
+    with fh:
         fcntl.flock(fh, fcntl.LOCK_EX)
         try:
             yield
@@ -208,6 +213,8 @@ def migrate(engine: Engine, revision: str = "head") -> None:
     from alembic import command
 
     try:
+        if revision == "head" and current_revision(engine) == head_revision():
+            return  # nothing to do: no lock needed (a read-only library can still be read)
         with _file_lock(engine):
             if revision == "head" and current_revision(engine) == head_revision():
                 return

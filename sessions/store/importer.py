@@ -26,7 +26,7 @@ from dataclasses import dataclass, field
 from pathlib import Path, PurePosixPath
 from typing import Any
 
-from sessions.errors import FloatliftError, NotFoundError, TrackReadError
+from sessions.errors import FloatliftError, NotFoundError, StoreError, TrackReadError
 
 log = logging.getLogger(__name__)
 
@@ -348,6 +348,8 @@ def run_import(
                     out.analysis, out.raw, analysis_version=out.version, source_file=source.label,
                     rider=assignment.rider, board=assignment.board,
                     conditions=assignment.conditions, feedback=assignment.feedback)
+            except StoreError:
+                raise  # the library cannot be written (disk full, server gone): stop, keep what is stored
             except FloatliftError as exc:
                 results[out.key] = ("refused", None)
                 summary.refused.append(Refusal(source.label, str(exc)))

@@ -354,7 +354,10 @@ class Library:
         sha = hashlib.sha256(track_bytes).hexdigest()
         cond = _check_conditions(conditions or {})
         fb = _check_feedback(feedback or {})
-        existing = self.find_sha256(sha)
+        try:
+            existing = self.find_sha256(sha)
+        except sa.exc.OperationalError as exc:
+            raise StoreError(f"cannot read the library at {self.url}: {db._short(exc)}") from exc
         if existing is not None:
             return existing, False
         blob, codec = encode_track(track_bytes)
