@@ -201,20 +201,25 @@ def analyse_track_bytes(raw: bytes, name: str) -> tuple[dict, str]:
 class _Outcome:
     key: Any
     ok: bool
-    raw: bytes = b""
-    sha256: str = ""
+    track: Any = None  # sessions.store.library.EncodedTrack (compressed in the worker)
     analysis: dict | None = None
     version: str = ""
     reason: str = ""
 
 
 def _analyse_source(key: Any, source: Source | None, raw: bytes | None, name: str) -> _Outcome:
-    """Worker: read (if needed) and analyse one track; never raises."""
+    """Worker: read (if needed), analyse and compress one track; never raises.
+
+    The writer process gets back the analysis and the compressed file (about a sixth of
+    the bytes), so compression and hashing run in parallel and little is pickled.
+    """
+    from sessions.store.library import EncodedTrack
+
     try:
         if raw is None:
             raw = source.read()
         analysis, version = analyse_track_bytes(raw, name)
-        return _Outcome(key, True, raw, hashlib.sha256(raw).hexdigest(), analysis, version)
+        return _Outcome(key, True, EncodedTrack.from_bytes(raw), analysis, version)
     except FloatliftError as exc:
         return _Outcome(key, False, reason=str(exc))
     except MemoryError:
@@ -345,7 +350,7 @@ def run_import(
         else:
             try:
                 sid, created = library.store_session(
-                    out.analysis, out.raw, analysis_version=out.version, source_file=source.label,
+                    out.analysis, out.track, analysis_version=out.version, source_file=source.label,
                     rider=assignment.rider, board=assignment.board,
                     conditions=assignment.conditions, feedback=assignment.feedback)
             except StoreError:

@@ -19,6 +19,7 @@ import gzip
 import hashlib
 import math
 from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
 from typing import Any
 
 import pandas as pd
@@ -333,7 +334,7 @@ class Library:
     def store_session(
         self,
         analysis: Mapping[str, Any],
-        track_bytes: bytes,
+        track_bytes: bytes | EncodedTrack,
         *,
         analysis_version: str,
         source_file: str | None = None,
@@ -348,10 +349,12 @@ class Library:
         (``sessions.analysis.ANALYSIS_VERSION``). *track_bytes* are the file's bytes as read (GPX or gzip-compressed GPX); their
         SHA-256 identifies the session. When that file is already stored (also when
         another process stores it at the same moment) nothing is written and
-        ``created`` is False.
+        ``created`` is False. An :class:`EncodedTrack` made elsewhere (the importer's
+        worker processes) may be given instead of the bytes.
         """
         _check_analysis(analysis)
-        sha = hashlib.sha256(track_bytes).hexdigest()
+        track = track_bytes if isinstance(track_bytes, EncodedTrack) else EncodedTrack.from_bytes(track_bytes)
+        sha = track.sha256
         cond = _check_conditions(conditions or {})
         fb = _check_feedback(feedback or {})
         try:
@@ -360,19 +363,18 @@ class Library:
             raise StoreError(f"cannot read the library at {self.url}: {db._short(exc)}") from exc
         if existing is not None:
             return existing, False
-        blob, codec = encode_track(track_bytes)
         now = _now()
         try:
             with self._tx() as s, s.begin():
                 row = Session(
                     sha256=sha,
                     source_file=(source_file or analysis["source"].get("file") or "")[-400:],
-                    track_blob=blob, track_codec=codec, track_size_b=len(track_bytes),
+                    track_blob=track.blob, track_codec=track.codec, track_size_b=track.size_b,
                     imported_at=now,
                     rider_id=_get_rider(s, rider).id if rider else None,
                     board_id=_get_board(s, board).id if board else None,
                 )
-                _apply_analysis(row, analysis, analysis_version, now)
+                children = _apply_analysis(row, analysis, analysis_version, now)
                 if cond:
                     row.conditions = Conditions(**cond)
                 if fb:
@@ -380,6 +382,7 @@ class Library:
                 s.add(row)
                 s.flush()
                 new_id = row.id
+                _insert_children(s, new_id, children)
         except sa.exc.IntegrityError as exc:
             existing = self.find_sha256(sha)
             if existing is None:
@@ -398,7 +401,7 @@ class Library:
                 row.ride_rows.clear()
                 row.state_rows.clear()
                 s.flush()
-                _apply_analysis(row, analysis, analysis_version, _now())
+                _insert_children(s, row.id, _apply_analysis(row, analysis, analysis_version, _now()))
         except sa.exc.OperationalError as exc:
             raise StoreError(f"cannot write to the library at {self.url}: {db._short(exc)}") from exc
 
@@ -623,6 +626,25 @@ def encode_track(raw: bytes) -> tuple[bytes, str]:
     return gzip.compress(raw, compresslevel=6, mtime=0), "gzip"
 
 
+@dataclass(frozen=True)
+class EncodedTrack:
+    """A track file ready to store: its compact form, codec, SHA-256 and size of the original.
+
+    Made with :meth:`from_bytes` (compression is the costly part, so the importer does it
+    in its worker processes and sends the smaller blob to the writer).
+    """
+
+    blob: bytes
+    codec: str
+    sha256: str
+    size_b: int
+
+    @classmethod
+    def from_bytes(cls, raw: bytes) -> EncodedTrack:
+        blob, codec = encode_track(raw)
+        return cls(blob, codec, hashlib.sha256(raw).hexdigest(), len(raw))
+
+
 def decode_track(blob: bytes, codec: str) -> bytes:
     """Inverse of :func:`encode_track`: the original file bytes."""
     if codec == "as-is":
@@ -647,6 +669,13 @@ def body_mass_at(history: list[tuple[dt.datetime, float]], when: dt.datetime | N
 
 
 def _parse_time(value: Any, what: str) -> dt.datetime:
+    if isinstance(value, str):  # the analysis document's own form, e.g. 2026-04-18T07:00:00.200Z
+        try:
+            when = dt.datetime.fromisoformat(value)
+        except ValueError:
+            pass
+        else:
+            return when.replace(tzinfo=dt.timezone.utc) if when.tzinfo is None else when.astimezone(dt.timezone.utc)
     try:
         ts = pd.Timestamp(value)
     except (TypeError, ValueError) as exc:
@@ -675,8 +704,13 @@ def _check_analysis(analysis: Mapping[str, Any]) -> None:
             raise AnalysisError(f"analysis result lacks {key!r}")
 
 
-def _apply_analysis(row: Session, analysis: Mapping[str, Any], version: str, now: dt.datetime) -> None:
-    """Copy an analysis result (contract ``floatlift.analysis/1``) onto a session row."""
+def _apply_analysis(row: Session, analysis: Mapping[str, Any], version: str, now: dt.datetime
+                    ) -> tuple[list[dict], list[dict]]:
+    """Copy an analysis result (contract ``floatlift.analysis/1``) onto a session row.
+
+    Returns the session's ride and state rows as plain dicts (without ``session_id``), for
+    :func:`_insert_children`: one multi-row insert each instead of an ORM object per row.
+    """
     src, ses = analysis["source"], analysis["session"]
     tis = ses.get("time_in_state_s", {})
     row.points = int(src.get("points") or 0)
@@ -697,9 +731,10 @@ def _apply_analysis(row: Session, analysis: Mapping[str, Any], version: str, now
     row.analysis = _json_safe(dict(analysis))
     row.analysis_version = str(version)
     row.analysed_at = now
+    rides = []
     for r in analysis["rides"]:
         ci = r.get("onset_ci_mps") or (None, None)
-        row.ride_rows.append(Ride(
+        rides.append(dict(
             ride_index=int(r["index"]),
             catch_start=_parse_time(r["catch_start"], "ride.catch_start") if r.get("catch_start") else None,
             start=_parse_time(r["start"], "ride.start"), end=_parse_time(r["end"], "ride.end"),
@@ -708,10 +743,17 @@ def _apply_analysis(row: Session, analysis: Mapping[str, Any], version: str, now
             onset_speed_mps=_num(r.get("onset_speed_mps")),
             onset_ci_lo_mps=_num(ci[0]), onset_ci_hi_mps=_num(ci[1]),
         ))
-    for i, st in enumerate(analysis["states"]):
-        row.state_rows.append(StateSpan(seq=i, state=str(st["state"]),
-                                        start=_parse_time(st["start"], "state.start"),
-                                        end=_parse_time(st["end"], "state.end")))
+    states = [dict(seq=i, state=str(st["state"]), start=_parse_time(st["start"], "state.start"),
+                   end=_parse_time(st["end"], "state.end"))
+              for i, st in enumerate(analysis["states"])]
+    return rides, states
+
+
+def _insert_children(s: OrmSession, session_id: int, children: tuple[list[dict], list[dict]]) -> None:
+    """Insert a session's rides and states (from :func:`_apply_analysis`) in bulk."""
+    for table, rows in ((Ride.__table__, children[0]), (StateSpan.__table__, children[1])):
+        if rows:
+            s.execute(table.insert(), [dict(r, session_id=session_id) for r in rows])
 
 
 def _json_safe(value: Any) -> Any:
