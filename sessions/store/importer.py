@@ -205,6 +205,7 @@ class _Outcome:
     analysis: dict | None = None
     version: str = ""
     reason: str = ""
+    worker_pid: int = field(default_factory=os.getpid)  # the process that did the work
 
 
 def _analyse_source(key: Any, source: Source | None, raw: bytes | None, name: str) -> _Outcome:
