@@ -401,6 +401,10 @@ class Outline:
             pairs.insert(0, (0.0, 0.0))
         x_m = tuple(x for x, _ in pairs)
         width_m = tuple(w for _, w in pairs)
+        if any(b - a < MIN_STATION_SPACING_M for a, b in zip(x_m, x_m[1:])):
+            # near-coincident stations make the interpolant's slopes overflow
+            raise BoardSpecError(f"outline stations closer than {MIN_STATION_SPACING_M * 1000:g} mm "
+                                 "to each other (or to the nose tip)")
         # ranges checked before the interpolant is built: absurd magnitudes would overflow in it
         low, high = LENGTH_RANGE_M
         if not low <= x_m[-1] <= high:
@@ -518,6 +522,9 @@ class Outline:
 
 
 _CSV_UNITS = {"m": 1.0, "cm": 1e-2, "mm": 1e-3, "in": IN_M}
+#: Closest two outline stations may be [m] (common practice, no published source: a
+#: shaper measures every inch or two; 0.1 mm only guards the interpolant against overflow).
+MIN_STATION_SPACING_M = 1e-4
 #: Largest outline CSV that is read [bytes]; a measured outline has a few dozen stations.
 MAX_OUTLINE_BYTES = 1024 * 1024
 
