@@ -25,14 +25,20 @@ over candidates and bootstrap replicates.
 
 When the caller passes the fixes themselves (``fix_xy_m``, ``track_xy_m``) and no device
 speed covers the window, the model is fitted to "chord" speeds instead of the smoothed
-speed: the displacement between consecutive fixes along the direction of travel divided
-by the time between them, i.e. the mean speed over each interval, which the model gives
-in closed form (:func:`interval_design`). A smoother's lag and blur depend on the speed
-(the analysis blends a slow and a fast pass by speed), so onsets taken from a smoothed
-speed are pulled toward the middle: low onsets read high, high onsets low. Chords carry
-no such distortion. Their window starts in the sprint paddle, so the model gets a fourth
-phase before the catch (paddling, any slope) whose length is profiled on a grid too, and
-only fits whose acceleration jumps at the onset are admitted.
+speed: the length of the displacement between consecutive fixes divided by the time
+between them, corrected for the upward bias of a noisy length (Rice 1944), i.e. the mean
+speed over each interval, which the model gives in closed form
+(:func:`interval_design`). A smoother's lag and blur depend on the speed (the analysis
+blends a slow and a fast pass by speed), so onsets taken from a smoothed speed are
+pulled toward the middle: low onsets read high, high onsets low. Chords carry no such
+distortion. Their window usually starts in the sprint paddle, so the displacement slope
+acts only for a catch duration ``C`` before the onset with the speed level before that
+(``C`` profiled on a grid like ``Delta``).
+
+Every fit must show a take-off: planing acceleration at least
+:data:`MIN_SLOPE_RATIO` times the displacement one, which itself is at most
+:data:`MAX_DISPLACEMENT_ACCEL_MPS2`. Whether the change is clear is tested on the
+bootstrap replicates refitted with the three phases and without that requirement.
 
 The 90 % intervals come from a parametric bootstrap (Efron & Tibshirani 1993, ch. 6)
 whose noise is a continuous-time first-order autoregressive process fitted to the
@@ -91,6 +97,10 @@ MIN_SLOPE_RATIO = 1.5
 #: does not slow down. Common practice, no published source.
 MAX_FIRST_DECEL_MPS2 = 0.05
 #: Largest acceleration admitted in the displacement phase of an onset fit [m/s^2].
+#: Model choice, no published source: without it a short "catch" can take over the
+#: first second of the planing acceleration and the onset comes out late and fast.
+#: Displacement-mode catches accelerate at a few tenths of m/s^2; planing
+#: accelerations start around 1.5 m/s^2 (the simulator's ranges, not measurements).
 MAX_DISPLACEMENT_ACCEL_MPS2 = 1.5
 #: Data used after the end of the window, to see the planing acceleration end [s]: for
 #: a device or smoothed speed, and for chord speeds. Chords need more: where the board
@@ -142,8 +152,9 @@ MIN_CHORD_S = 0.9
 #: (scipy.stats.chi2(1).median() = 0.454936...).
 CHI2_1_MEDIAN = 0.454936423119572
 #: Extra spread of the onset speed [m/s] and instant [s] when the speed comes from the
-#: fixes (chords): the slowly varying part of the GNSS error that the residuals cannot
-#: show. Calibrated on simulated sessions with seeds disjoint from the benchmark's.
+#: fixes (chords): the part of the GNSS error and of the model's misfit that the
+#: residuals cannot show. Calibrated on simulated sessions (1 Hz, onsets 2-4 m/s, seeds
+#: 1000-1039) disjoint from the benchmark's seeds; recheck against real data.
 CHORD_ALLOWANCE_MPS = 0.2
 CHORD_ALLOWANCE_S = 0.3
 #: Bootstrap replicates.
@@ -240,22 +251,23 @@ def estimate_onset(
         smoothed speed when it covers at least 80 % of the window's samples.
     window : (float, float), optional
         The ride's catch start and speed peak [s]; default the whole series. Samples up
-        to :data:`MARGIN_AFTER_PEAK_S` after the peak are used too, to see the planing
-        acceleration end.
+        to :data:`MARGIN_AFTER_PEAK_S` (chords: :data:`MARGIN_AFTER_PEAK_CHORD_S`) after
+        the peak are used too, to see the planing acceleration end.
     seed : int
         Seed of the bootstrap; equal inputs and seed give equal results.
     fix_xy_m : (array_like, array_like), optional
         The fixes as measured, east and north in a local frame [m] (NaN for a fix not to
         use, e.g. an outlier). With ``track_xy_m`` it replaces the smoothed speed (a
         device speed still comes first): the speed over each interval between fixes is
-        the fixes' displacement along the direction of travel divided by the interval
-        (a "chord" speed), and the model is fitted to interval means, which it gives in
-        closed form. No smoother stands between the fixes and the fit, so the onset is
-        free of the smoother's lag and of its speed-dependent blur.
+        the length of the fixes' displacement divided by the interval (a "chord"
+        speed, corrected for the noise bias of a length), and the model is fitted to
+        interval means, which it gives in closed form. No smoother stands between the
+        fixes and the fit, so the onset is free of the smoother's lag and of its
+        speed-dependent blur. With fewer than :data:`MIN_SAMPLES` chords in the window
+        (sparse sampling) the smoothed speed is used after all.
     track_xy_m : (array_like, array_like), optional
         The smoothed positions at the same times [m]; only their direction of travel is
-        used (the along-track projection keeps the noise of the fixes zero-mean, where
-        the length of a noisy displacement would be biased upward at low speeds).
+        used, to measure the noise of the fixes across it (see :func:`_chord_speeds`).
 
     Returns
     -------
@@ -565,22 +577,30 @@ def _polish(make_design, src, tc, y, cand, widths, durations, fit):
     lo, hi = cand[max(j - 1, 0)], cand[min(j + 1, len(cand) - 1)]
     fine = np.linspace(lo, hi, POLISH_ONSETS)
     iw, idur = int(fit["iw"][0]), int(fit["idur"][0])
-    w = widths[iw : iw + 1]
-    near = durations[max(idur - 1, 0) : idur + 2]
-    finite = near[near < 1e3]
-    d = np.geomspace(finite.min(), finite.max(), POLISH_DURATIONS) if len(finite) > 1 else finite
-    if (near >= 1e3).any():
-        d = np.append(d, 1e3)
-    design = make_design(fine, d, w).reshape(len(d) * len(fine), len(tc), -1)
+    d = _fine_between(durations, idur, POLISH_DURATIONS)
+    w = widths[iw : iw + 1]  # blur width or catch duration as chosen
+    design = make_design(fine, d, w).reshape(len(w) * len(d) * len(fine), len(tc), -1)
     gram_inv, ok = _gram_inverse(design)
-    k = 4 + 2 * (d < 1e3) + _axis_params(w, src)
-    res = _best_fits(design, gram_inv, ok, y[None, :], fine, (1, len(d), len(fine)), k)
+    k = (4 + 2 * (d < 1e3)[None, :] + _axis_params(w, src)[:, None]).reshape(-1)
+    res = _best_fits(design, gram_inv, ok, y[None, :], fine, (len(w), len(d), len(fine)), k)
     if res["flat"][0] < 0:  # keep the coarse fit
-        coarse = make_design(cand[j : j + 1], d, w).reshape(1, len(tc), -1)[0]
+        coarse = make_design(cand[j : j + 1], durations[idur : idur + 1], widths[iw : iw + 1]).reshape(len(tc), -1)
         beta = fit["coef"][:, 0]
         return float(fit["tau"][0]), float(fit["speed"][0]), beta, coarse @ beta
     beta = res["coef"][:, 0]
     return float(res["tau"][0]), float(res["speed"][0]), beta, design[int(res["flat"][0])] @ beta
+
+
+def _fine_between(grid, i: int, count: int, span: int = 1) -> np.ndarray:
+    """``count`` values spaced geometrically between the grid's ``span``-th neighbours of
+    ``grid[i]``, plus 1e3 ("none") when that is among them."""
+    grid = np.asarray(grid, dtype=float)
+    near = grid[max(i - span, 0) : i + span + 1]
+    finite = near[near < 1e3]
+    out = np.geomspace(finite.min(), finite.max(), count) if len(finite) > 1 else finite
+    if (near >= 1e3).any():
+        out = np.append(out, 1e3)
+    return out
 
 
 def _axis_params(widths: np.ndarray, src: str) -> np.ndarray:
