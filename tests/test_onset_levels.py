@@ -11,6 +11,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy import integrate, stats
 
 from sessions.analysis import analyse
@@ -151,3 +153,56 @@ def test_chord_onsets_keep_the_difference_of_two_known_levels():
         # 0.1-0.2 m/s (docs/onset.md, limits); the point here is that both levels do
         assert abs(medians[level] - level) <= 0.25
     assert medians[3.3] - medians[2.3] >= 0.8 * 1.0
+
+
+@settings(max_examples=120, deadline=None)
+@given(
+    st.lists(
+        st.tuples(
+            st.floats(allow_nan=True, allow_infinity=True, width=32),
+            st.floats(allow_nan=True, allow_infinity=True, width=32),
+            st.floats(allow_nan=True, allow_infinity=True, width=32),
+        ),
+        max_size=40,
+    ),
+    st.integers(0, 3),
+)
+def test_chords_never_raise_on_any_positions(points, seed):
+    """Fixes and smoothed positions of any float values: a reason or finite numbers."""
+    from sessions.onset import OnsetEstimate, estimate_onset
+
+    t = np.arange(len(points), dtype=float)
+    x = np.array([p[0] for p in points], dtype=float)
+    y = np.array([p[1] for p in points], dtype=float)
+    jitter = np.array([p[2] for p in points], dtype=float)
+    est = estimate_onset(t, np.full(len(t), np.nan), fix_xy_m=(x, y), track_xy_m=(x + jitter, y), seed=seed)
+    assert isinstance(est, OnsetEstimate)
+    assert (est.reason is None) == (est.speed_mps is not None)
+    if est.reason is None:
+        assert np.isfinite([est.speed_mps, est.time_s, *est.ci_mps, *est.time_ci_s]).all()
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.floats(0.0, 15.0), min_size=0, max_size=40), st.floats(-5.0, 30.0), st.floats(-5.0, 30.0), st.integers(0, 3))
+def test_chords_never_raise_on_plausible_rides(speeds, w0, w1, seed):
+    """A straight path whose speed over each second is drawn; random windows."""
+    from sessions.onset import estimate_onset
+
+    v = np.array(speeds, dtype=float)
+    s = np.concatenate(([0.0], np.cumsum(v)))
+    t = np.arange(len(s), dtype=float)
+    est = estimate_onset(t, np.full(len(t), np.nan), window=(w0, w1), fix_xy_m=(s, 0.0 * s), track_xy_m=(s, 0.0 * s), seed=seed)
+    assert (est.reason is None) == (est.speed_mps is not None)
+    if est.reason is None:
+        assert est.ci_mps[0] <= est.speed_mps <= est.ci_mps[1]
+        assert est.time_ci_s[0] <= est.time_s <= est.time_ci_s[1]
+
+
+def test_fixes_without_the_smoothed_track_are_bad_input():
+    from sessions.onset import REASON_BAD_INPUT, estimate_onset
+
+    t = np.arange(10.0)
+    est = estimate_onset(t, t, fix_xy_m=(t, t))
+    assert est.reason_code == REASON_BAD_INPUT
+    est = estimate_onset(t, t, fix_xy_m=(t, t[:5]), track_xy_m=(t, t))
+    assert est.reason_code == REASON_BAD_INPUT
