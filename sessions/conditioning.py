@@ -351,11 +351,12 @@ def kalman_smooth(t_s, x_m, y_m, reported_speed_mps, skip, s: ConditioningSettin
     (used as the speed's standard deviation) and a mask of fixes the innovation gate
     skipped. See the module docstring for the model.
     """
-    t = [float(v) for v in t_s]
-    zx = [float(v) for v in x_m]
-    zy = [float(v) for v in y_m]
-    zs = [float(v) for v in reported_speed_mps]
-    sk = [bool(v) for v in skip]
+    # plain Python floats for the per-fix loops (tolist converts in C)
+    t = np.asarray(t_s, dtype=float).tolist()
+    zx = np.asarray(x_m, dtype=float).tolist()
+    zy = np.asarray(y_m, dtype=float).tolist()
+    zs = np.asarray(reported_speed_mps, dtype=float).tolist()
+    sk = np.asarray(skip, dtype=bool).tolist()
     n = len(t)
     q = float(s.accel_psd)
     r_p = float(s.pos_sd_m) ** 2
