@@ -148,6 +148,19 @@ SMOOTHED_ALLOWANCE_S = 0.6
 #: Fixes closer together than this are skipped when speeds are taken from the fixes
 #: themselves [s]: a shorter chord divides the fix's own white noise by a shorter time.
 MIN_CHORD_S = 0.9
+#: Dense sampling (median interval between usable fixes at most
+#: :data:`DENSE_MAX_INTERVAL_S`, e.g. 5 Hz) gets overlapping chords instead: one starting
+#: at every fix at least :data:`DENSE_CHORD_STRIDE_S` after the last start, each over
+#: the first fix at least :data:`DENSE_CHORD_S` later [s]. Skipping fixes would throw
+#: away most of the data; overlapping chords keep the baseline long (a fix's white
+#: noise divided by a longer time) and use every fix. Chosen on simulated 5 Hz sessions
+#: with seeds disjoint from the benchmark's (see docs/onset.md).
+DENSE_MAX_INTERVAL_S = 0.5
+DENSE_CHORD_S = 1.0
+DENSE_CHORD_STRIDE_S = 0.2
+#: Times closer than this count as equal when chords are laid out [s] (fix times are
+#: whole milliseconds; sums of 0.2 s steps are not exact in binary).
+_TIME_TOL_S = 1e-6
 #: Median of a chi-square distribution with one degree of freedom
 #: (scipy.stats.chi2(1).median() = 0.454936...).
 CHI2_1_MEDIAN = 0.454936423119572
@@ -370,7 +383,7 @@ def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window, fix_xy_m=
         ok = np.isfinite(rep)
         return t[ok], rep[ok], np.full(int(ok.sum()), np.nan), "reported", None
     if fix_xy_m is not None:
-        ta, tb, chord = _chord_speeds(*(chord_cols[i] for i in (0, 4, 5, 6, 7)), MIN_CHORD_S)
+        ta, tb, chord = _chord_speeds(*(chord_cols[i] for i in (0, 4, 5, 6, 7)))
         if len(chord) >= MIN_SAMPLES:
             return 0.5 * (ta + tb), chord, np.full(len(chord), np.nan), "fixes", (ta, tb)
         # too few fixes for chords (sparse sampling): fall back to the smoothed speed
@@ -388,7 +401,7 @@ def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window, fix_xy_m=
     return t, v, sd, "smoothed", None
 
 
-def _chord_speeds(t, fx, fy, sx, sy, min_chord_s):
+def _chord_speeds(t, fx, fy, sx, sy, min_chord_s=None, stride_s=None):
     """Mean speed over each interval between usable fixes.
 
     Fixes with a non-finite position are skipped, and so are fixes closer than
@@ -409,12 +422,14 @@ def _chord_speeds(t, fx, fy, sx, sy, min_chord_s):
     idx = np.flatnonzero(ok)
     if len(idx) < 2:
         return np.empty(0), np.empty(0), np.empty(0)
-    kept = [idx[0]]
-    for i in idx[1:]:
-        if t[i] - t[kept[-1]] >= min_chord_s:
-            kept.append(i)
-    k = np.asarray(kept)
-    a, b = k[:-1], k[1:]
+    if min_chord_s is None:  # the module's settings, by the density of the fixes
+        dense = float(np.median(np.diff(t[idx]))) <= DENSE_MAX_INTERVAL_S
+        min_chord_s = DENSE_CHORD_S if dense else MIN_CHORD_S
+        stride_s = DENSE_CHORD_STRIDE_S if dense else None
+    a, b = _chord_pairs(t[idx], min_chord_s, stride_s)
+    a, b = idx[a], idx[b]
+    if len(a) == 0:
+        return np.empty(0), np.empty(0), np.empty(0)
     dt = t[b] - t[a]
     dfx, dfy = fx[b] - fx[a], fy[b] - fy[a]
     dsx, dsy = sx[b] - sx[a], sy[b] - sy[a]
@@ -427,6 +442,33 @@ def _chord_speeds(t, fx, fy, sx, sy, min_chord_s):
     else:
         noise2 = 0.0
     return t[a], t[b], np.sqrt(np.maximum(raw2 - noise2, 0.0))
+
+
+def _chord_pairs(t: np.ndarray, min_chord_s: float, stride_s: float | None) -> tuple[np.ndarray, np.ndarray]:
+    """Start and end indices of the chords over sorted times ``t``.
+
+    Without ``stride_s``: consecutive chords between kept fixes, a fix being kept when
+    it lies at least ``min_chord_s`` after the last kept one. With ``stride_s``:
+    overlapping chords, one starting at every fix at least ``stride_s`` after the last
+    start, each ending at the first fix at least ``min_chord_s`` after its start.
+    """
+    if len(t) < 2:
+        return np.empty(0, dtype=int), np.empty(0, dtype=int)
+    if stride_s is None:
+        kept = [0]
+        for i in range(1, len(t)):
+            if t[i] - t[kept[-1]] >= min_chord_s:
+                kept.append(i)
+        k = np.asarray(kept)
+        return k[:-1], k[1:]
+    starts = [0]
+    for i in range(1, len(t)):
+        if t[i] - t[starts[-1]] >= stride_s - _TIME_TOL_S:
+            starts.append(i)
+    a = np.asarray(starts)
+    b = np.searchsorted(t, t[a] + min_chord_s - _TIME_TOL_S, side="left")
+    keep = b < len(t)
+    return a[keep], b[keep]
 
 
 def _thin(t, v, sd, max_rate_hz):
