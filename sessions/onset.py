@@ -110,6 +110,20 @@ MAX_DISPLACEMENT_ACCEL_MPS2 = 1.5
 #: (by 0.1-0.2 m/s on simulated sessions with onsets of 3.5-4 m/s).
 MARGIN_AFTER_PEAK_S = 2.0
 MARGIN_AFTER_PEAK_CHORD_S = 4.0
+#: Sparse fixes (two or more gaps of more than :data:`SPARSE_GAP_S` and at most
+#: :data:`SPARSE_MAX_GAP_S` between this long before the window's start and its end,
+#: as a watch saving power leaves between fixes; longer gaps are dropouts, and one
+#: gap is a single missed or rejected fix) give chords from this long before the window's
+#: start too [s]. The
+#: window starts where the smoothed speed leaves sprint-paddling pace, and a smoother
+#: fed with fixes several seconds apart leaves it late, after a low onset; the catch
+#: duration of the chord model keeps the sprint before the catch a level phase of its
+#: own. Dense fixes do not need it (at 1 Hz it moves the bias at 3-4 m/s onsets from
+#: about -0.05 to -0.13 m/s on the calibration seeds). Chosen on simulated sessions
+#: with seeds disjoint from the benchmark's (see docs/onset.md).
+LEAD_BEFORE_WINDOW_CHORD_S = 4.0
+SPARSE_GAP_S = 1.5
+SPARSE_MAX_GAP_S = 8.0
 #: Blur widths tried on a smoothed speed series [s] (standard deviation of the Gaussian
 #: kernel the smoother is modelled by; 0 is no blur).
 BLUR_WIDTHS_S = (0.0, 0.5, 1.0)
@@ -363,7 +377,12 @@ def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window, fix_xy_m=
             raise _Unusable(REASON_BAD_INPUT, "window is not a pair of numbers") from None
         if not (np.isfinite(w0) and np.isfinite(w1)) or w1 <= w0:
             raise _Unusable(REASON_BAD_INPUT, f"window ({w0}, {w1}) is empty or not finite")
-        keep &= (t >= w0) & (t <= w1 + max(MARGIN_AFTER_PEAK_S, MARGIN_AFTER_PEAK_CHORD_S))
+        usable = np.isfinite(t) & np.isfinite(fx) & np.isfinite(fy)
+        usable &= (t >= w0 - LEAD_BEFORE_WINDOW_CHORD_S) & (t <= w1)
+        gaps = np.diff(np.sort(t[usable]))
+        sparse = fix_xy_m is not None and int(np.sum((gaps > SPARSE_GAP_S) & (gaps <= SPARSE_MAX_GAP_S))) >= 2
+        lead = LEAD_BEFORE_WINDOW_CHORD_S if sparse else 0.0
+        keep &= (t >= w0 - lead) & (t <= w1 + max(MARGIN_AFTER_PEAK_S, MARGIN_AFTER_PEAK_CHORD_S))
     cols = [a[keep] for a in (t, v, sd, rep, fx, fy, sx, sy)]
     order = np.argsort(cols[0], kind="stable")
     cols = [a[order] for a in cols]
@@ -373,7 +392,7 @@ def _prepare(t_s, speed_mps, speed_sd_mps, reported_speed_mps, window, fix_xy_m=
     if window is not None:
         # the chords keep their own margin; other speeds end MARGIN_AFTER_PEAK_S after it
         chord_cols = [a.copy() for a in cols]
-        near = cols[0] <= w1 + MARGIN_AFTER_PEAK_S
+        near = (cols[0] >= w0) & (cols[0] <= w1 + MARGIN_AFTER_PEAK_S)
         cols = [a[near] for a in cols]
     else:
         chord_cols = cols

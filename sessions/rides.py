@@ -242,7 +242,7 @@ def extract_rides(labels, grid_t_s, grid_speed_mps, cond, s: RideSettings, seed:
 def _apply_onset(ride: Ride, cond, seed: int, lead_s: float = 0.0) -> None:
     """Fill the onset fields and move the ride start to the onset when one is found."""
     try:
-        from sessions.onset import MARGIN_AFTER_PEAK_CHORD_S, MARGIN_AFTER_PEAK_S, estimate_onset
+        from sessions.onset import LEAD_BEFORE_WINDOW_CHORD_S, MARGIN_AFTER_PEAK_CHORD_S, MARGIN_AFTER_PEAK_S, estimate_onset
     except ImportError:
         return
     lo, hi = ride.catch_start_s - lead_s, max(ride.peak_s, ride.first_ride_s)
@@ -250,7 +250,9 @@ def _apply_onset(ride: Ride, cond, seed: int, lead_s: float = 0.0) -> None:
         ride.onset_reason = "window: the peak comes before the catch start"
         return
     # the estimator also uses data up to its margins after the window's end
-    i0, i1 = np.searchsorted(cond.t_s, [lo - 2.0, hi + max(MARGIN_AFTER_PEAK_S, MARGIN_AFTER_PEAK_CHORD_S) + 1.0])
+    i0, i1 = np.searchsorted(
+        cond.t_s, [lo - max(2.0, LEAD_BEFORE_WINDOW_CHORD_S + 1.0), hi + max(MARGIN_AFTER_PEAK_S, MARGIN_AFTER_PEAK_CHORD_S) + 1.0]
+    )
     rep = cond.reported_speed_mps[i0:i1]
     est = estimate_onset(
         cond.t_s[i0:i1],

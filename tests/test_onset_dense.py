@@ -70,8 +70,9 @@ def test_overlapping_chord_errors_under_white_noise():
     n = err.size
     expected_var = 2 * sd_m**2 / 1.0**2
     lo, hi = stats.chi2(n - 1).ppf([0.0005, 0.9995]) / (n - 1)
-    # the overlap (lag-5 correlation) widens the band of the sample variance; use
-    # a factor 1.5 of the independent-sample band (a lag -1/2 MA term: 1 + 2 * 0.25)
+    # the overlap (correlation -1/2 at lag 5) multiplies the variance of the sample
+    # variance by 1 + 2 * 0.5^2 = 1.5 (Bartlett 1946), its SD by sqrt(1.5) = 1.22; the
+    # band is widened by 1.5 to stay clear of that
     half = 1.5 * (hi - lo) / 2
     assert abs(float(np.var(err, ddof=1)) / expected_var - 1.0) < half
     k = 5
@@ -128,3 +129,31 @@ def test_dense_chord_onsets_on_known_rides():
         assert float(np.median(np.abs(errs))) <= 0.15
         med[level] = level + float(np.median(errs))
     assert abs((med[3.2] - med[2.0]) / 1.2 - 1.0) < 0.2
+
+
+
+def _fixes_at(t: np.ndarray):
+    """Straight motion at 3 m/s sampled at times t: estimator inputs without noise."""
+    d = 3.0 * t
+    return t, d, (d, 0.0 * d), (d, 0.0 * d)
+
+
+def test_sparse_fixes_give_chords_from_before_the_window():
+    # fixes 2 s apart (a watch saving power): chords start up to
+    # LEAD_BEFORE_WINDOW_CHORD_S before the window; 1 Hz fixes, also with a 10 s
+    # dropout or one rejected fix in the window, keep the window's start
+    w0, w1 = 20.0, 30.0
+    t, v, fix, track = _fixes_at(np.arange(0.0, 40.0, 2.0))
+    ts, _, _, src, spans = onset._prepare(t, v, None, None, (w0, w1), fix, track)
+    assert src == "fixes"
+    assert spans[0][0] < w0 and spans[0][0] >= w0 - onset.LEAD_BEFORE_WINDOW_CHORD_S
+    t1 = np.concatenate((np.arange(0.0, 22.0), np.arange(32.0, 40.0)))
+    t, v, fix, track = _fixes_at(t1)
+    _, _, _, src, spans = onset._prepare(t, v, None, None, (w0, w1 + 5.0), fix, track)
+    assert src == "fixes" and spans[0][0] >= w0
+    t, v, fix, track = _fixes_at(np.arange(0.0, 40.0))
+    _, _, _, src, spans = onset._prepare(t, v, None, None, (w0, w1), fix, track)
+    assert src == "fixes" and spans[0][0] == w0
+    fix[0][25] = np.nan  # one rejected fix leaves a single 2 s gap: still 1 Hz
+    _, _, _, src, spans = onset._prepare(t, v, None, None, (w0, w1), fix, track)
+    assert src == "fixes" and spans[0][0] == w0
