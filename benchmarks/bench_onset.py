@@ -26,6 +26,11 @@ rides the least-squares slope of the estimate on the truth, the Theil-Sen slope 
 of the estimated to the true difference between the medians of the 2.0 and 4.0 levels.
 Seeds 0..N-1 here; the settings were chosen on seeds from 1000 on.
 
+``--floor N`` adds a third table for 5 Hz without device speed: the estimator on N
+sessions (seeds 1000..) as simulated and with one part of the simulated GNSS error
+switched off (the white error; the slowly varying, receiver-filtered error; the
+receiver's filter), showing which part of the error sets the accuracy.
+
 The simulator's truth is the reference; the simulated sessions are invented data.
 """
 
@@ -79,10 +84,18 @@ def _t(start: pd.Timestamp, iso: str) -> float:
 LEVELS_MPS = (2.0, 2.5, 3.0, 3.5, 4.0)
 
 
-def score_session(seed: int, sampling: str, reported: bool, duration_s: float, board_onset_mps: float | None = None) -> list[dict]:
+def score_session(
+    seed: int,
+    sampling: str,
+    reported: bool,
+    duration_s: float,
+    board_onset_mps: float | None = None,
+    sim_overrides: dict | None = None,
+) -> list[dict]:
     """One simulated session through the analysis: one row per true ride."""
     style = "long" if seed % 4 == 3 else "short"
     extra = {} if board_onset_mps is None else {"board_onset_mps": board_onset_mps}
+    extra.update(sim_overrides or {})
     sim = simulate_session(
         SimConfig(seed=seed, sampling=sampling, duration_s=duration_s, reported_speed=reported, style=style, **extra)
     )
@@ -175,6 +188,35 @@ def summarise_levels(df: pd.DataFrame) -> pd.DataFrame:
     return pd.DataFrame(out)
 
 
+FLOOR_CASES = (
+    ("as simulated", {}),
+    ("no white error", {"gps_white_m": 0.0}),
+    ("no slowly varying error", {"gps_sigma_m": 0.0}),
+    ("slowly varying error, no receiver filter", {"gps_smoothing_s": 0.0}),
+)
+
+
+def floor_table(n_sessions: int, duration_s: float) -> pd.DataFrame:
+    """5 Hz position-only accuracy with parts of the simulated GNSS error switched off."""
+    out = []
+    for name, overrides in FLOOR_CASES:
+        rows = []
+        for seed in range(1000, 1000 + n_sessions):
+            rows.extend(score_session(seed, "5hz", False, duration_s, sim_overrides=overrides))
+        det = pd.DataFrame(rows)
+        f = det[det["found"] == True]  # noqa: E712
+        out.append(
+            {
+                "5 Hz, no device speed": name,
+                "rides with onset": len(f),
+                "|speed err| med [m/s]": round(float(f["speed_err"].abs().median()), 3),
+                "speed bias [m/s]": round(float(f["speed_err"].median()), 3),
+                "cover speed 90%": f"{f['cover_speed'].mean():.0%}",
+            }
+        )
+    return pd.DataFrame(out)
+
+
 def _print(table: pd.DataFrame) -> None:
     with pd.option_context("display.width", 250, "display.max_columns", 30):
         print(table.to_string(index=False))
@@ -192,6 +234,7 @@ def main(argv=None) -> int:
     ap.add_argument("--configs", default="all", help="comma list like 1hz-no,5hz-yes (default all)")
     ap.add_argument("--level-sessions", type=int, default=30, help="sessions per onset level (0: skip that table)")
     ap.add_argument("--level-duration", type=float, default=1800.0, help="session length for the level table [s]")
+    ap.add_argument("--floor", type=int, default=0, help="sessions for the 5 Hz error-part table (0: skip)")
     args = ap.parse_args(argv)
     configs = CONFIGS
     if args.configs != "all":
@@ -219,6 +262,9 @@ def main(argv=None) -> int:
                     level_rows.extend(score_session(seed, sampling, reported, args.level_duration, level))
         print()
         _print(summarise_levels(pd.DataFrame(level_rows)))
+    if args.floor > 0:
+        print()
+        _print(floor_table(args.floor, args.duration))
     return 0
 
 
