@@ -190,78 +190,66 @@ def register(subparsers) -> None:
     p.set_defaults(func=_store_guard(run_demo))
 
 
-def _register_rider(subparsers) -> None:
-    p = subparsers.add_parser("rider", help="add, change, list and show riders")
-    sub = p.add_subparsers(dest="action", metavar="ACTION", required=True, parser_class=type(p))
+def _register_catalogue(subparsers, noun: str, options, run, edit_help: str, show_help: str) -> None:
+    """``floatlift NOUN add|edit|list|show`` for a catalogue of riders or boards.
 
-    def common(q, adding: bool):
-        q.add_argument("--mass", metavar="MASS", help="body mass: kg, or with lb (72, 72kg, 159lb)")
-        q.add_argument("--on", metavar="DATE", help="day of that weighing (YYYY-MM-DD; default today)")
-        q.add_argument("--gear", metavar="MASS", help="worn gear mass (wetsuit, leash): kg or lb")
-        q.add_argument("--stance", choices=("regular", "goofy"))
-        q.add_argument("--ability", metavar="LEVEL", help="beginner, improver, intermediate, advanced or expert")
-        q.add_argument("--note", metavar="TEXT")
-        if not adding:
-            q.add_argument("--name", dest="new_name", metavar="NEW", help="rename the rider")
+    ``options(parser)`` adds the attribute options shared by ``add`` and ``edit``; ``run``
+    maps each action to its handler.
+    """
+    p = subparsers.add_parser(noun, help=f"add, change, list and show {noun}s")
+    sub = p.add_subparsers(dest="action", metavar="ACTION", required=True, parser_class=type(p))
+    helps = {"add": f"add a {noun}", "edit": edit_help, "list": f"list {noun}s", "show": show_help}
+    for action, help_text in helps.items():
+        q = sub.add_parser(action, help=help_text)
+        if action != "list":
+            q.add_argument("name", metavar="NAME")
+        if action in ("add", "edit"):
+            options(q)
+        if action == "edit":
+            q.add_argument("--name", dest="new_name", metavar="NEW", help=f"rename the {noun}")
         _db_option(q)
         _json_option(q)
+        q.set_defaults(func=_store_guard(run[action]))
 
-    q = sub.add_parser("add", help="add a rider")
-    q.add_argument("name", metavar="NAME")
-    common(q, True)
-    q.set_defaults(func=_store_guard(run_rider_add))
-    q = sub.add_parser("edit", help="change a rider (a new --mass is added to the mass history)")
-    q.add_argument("name", metavar="NAME")
-    common(q, False)
-    q.set_defaults(func=_store_guard(run_rider_edit))
-    q = sub.add_parser("list", help="list riders")
-    _db_option(q)
-    _json_option(q)
-    q.set_defaults(func=_store_guard(run_rider_list))
-    q = sub.add_parser("show", help="show a rider with the mass history")
-    q.add_argument("name", metavar="NAME")
-    _db_option(q)
-    _json_option(q)
-    q.set_defaults(func=_store_guard(run_rider_show))
+
+def _rider_options(q) -> None:
+    q.add_argument("--mass", metavar="MASS", help="body mass: kg, or with lb (72, 72kg, 159lb)")
+    q.add_argument("--on", metavar="DATE", help="day of that weighing (YYYY-MM-DD; default today)")
+    q.add_argument("--gear", metavar="MASS", help="worn gear mass (wetsuit, leash): kg or lb")
+    q.add_argument("--stance", choices=("regular", "goofy"))
+    q.add_argument("--ability", metavar="LEVEL", help="beginner, improver, intermediate, advanced or expert")
+    q.add_argument("--note", metavar="TEXT")
+
+
+def _board_options(q) -> None:
+    q.add_argument("--dims", metavar="L x W x T",
+                   help="length x width x thickness in the trade's notation, e.g. \"5'10 x 19 1/4 x 2 7/16\"")
+    q.add_argument("--volume", metavar="LITRES", help="volume, e.g. 28.6L (estimated from --dims when missing)")
+    q.add_argument("--mass", metavar="MASS", help="board mass: kg, or with lb")
+    q.add_argument("--outline", metavar="CSV", help="outline stations: x_from_nose,width per line (m, cm, mm or in)")
+    q.add_argument("--construction", metavar="TEXT", help="e.g. PU/polyester, EPS/epoxy")
+    q.add_argument("--fins", metavar="TEXT", help="e.g. thruster, quad, single")
+    q.add_argument("--model", metavar="TEXT", help="model name (a shaper's test series)")
+    q.add_argument("--version", dest="board_version", metavar="TEXT", help="version within the model")
+    q.add_argument("--note", metavar="TEXT")
+
+
+def _register_rider(subparsers) -> None:
+    _register_catalogue(
+        subparsers, "rider", _rider_options,
+        {"add": run_rider_add, "edit": run_rider_edit, "list": run_rider_list, "show": run_rider_show},
+        edit_help="change a rider (a new --mass is added to the mass history)",
+        show_help="show a rider with the mass history",
+    )
 
 
 def _register_board(subparsers) -> None:
-    p = subparsers.add_parser("board", help="add, change, list and show boards")
-    sub = p.add_subparsers(dest="action", metavar="ACTION", required=True, parser_class=type(p))
-
-    def common(q, adding: bool):
-        q.add_argument("--dims", metavar="L x W x T",
-                       help="length x width x thickness in the trade's notation, e.g. \"5'10 x 19 1/4 x 2 7/16\"")
-        q.add_argument("--volume", metavar="LITRES", help="volume, e.g. 28.6L (estimated from --dims when missing)")
-        q.add_argument("--mass", metavar="MASS", help="board mass: kg, or with lb")
-        q.add_argument("--outline", metavar="CSV", help="outline stations: x_from_nose,width per line (m, cm, mm or in)")
-        q.add_argument("--construction", metavar="TEXT", help="e.g. PU/polyester, EPS/epoxy")
-        q.add_argument("--fins", metavar="TEXT", help="e.g. thruster, quad, single")
-        q.add_argument("--model", metavar="TEXT", help="model name (a shaper's test series)")
-        q.add_argument("--version", dest="board_version", metavar="TEXT", help="version within the model")
-        q.add_argument("--note", metavar="TEXT")
-        if not adding:
-            q.add_argument("--name", dest="new_name", metavar="NEW", help="rename the board")
-        _db_option(q)
-        _json_option(q)
-
-    q = sub.add_parser("add", help="add a board")
-    q.add_argument("name", metavar="NAME")
-    common(q, True)
-    q.set_defaults(func=_store_guard(run_board_add))
-    q = sub.add_parser("edit", help="change a board")
-    q.add_argument("name", metavar="NAME")
-    common(q, False)
-    q.set_defaults(func=_store_guard(run_board_edit))
-    q = sub.add_parser("list", help="list boards")
-    _db_option(q)
-    _json_option(q)
-    q.set_defaults(func=_store_guard(run_board_list))
-    q = sub.add_parser("show", help="show a board")
-    q.add_argument("name", metavar="NAME")
-    _db_option(q)
-    _json_option(q)
-    q.set_defaults(func=_store_guard(run_board_show))
+    _register_catalogue(
+        subparsers, "board", _board_options,
+        {"add": run_board_add, "edit": run_board_edit, "list": run_board_list, "show": run_board_show},
+        edit_help="change a board",
+        show_help="show a board",
+    )
 
 
 # --- helpers -----------------------------------------------------------------------------------
