@@ -9,38 +9,25 @@ against numerical integration, and chord speeds on exactly known motion.
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import integrate, stats
 
-from sessions.analysis import analyse
 from sessions.onset import _chord_speeds, interval_design, phase_design
-from sessions.simulate import SimConfig, simulate_session
-from sessions.track import Track, TrackMeta
+from sessions.simulate import SimConfig
+from simulated_rides import matched_rides
 
 
 def _onsets(level_mps: float, seeds) -> tuple[list[float], list[float]]:
     """Estimated and true onset speeds of detected rides matched by overlap."""
     est, true = [], []
     for seed in seeds:
-        sim = simulate_session(SimConfig(seed=seed, sampling="1hz", duration_s=3600.0, board_onset_mps=level_mps))
-        track = Track(sim.points.reset_index(drop=True), TrackMeta(source=f"sim-{seed}.gpx", sha256="0" * 64))
-        start = track.points["time"].iloc[0]
-        rides = analyse(track).rides
-        used: set[int] = set()
-        for r in sim.truth["rides"]:
-            ts = (pd.Timestamp(r["start"]) - start).total_seconds()
-            te = (pd.Timestamp(r["end"]) - start).total_seconds()
-            for k, d in enumerate(rides):
-                if k in used or not (d.first_ride_s <= te and d.end_s >= ts):
-                    continue
-                used.add(k)
-                if d.onset_speed_mps is not None:
-                    est.append(d.onset_speed_mps)
-                    true.append(r["onset_speed_mps"])
-                break
+        cfg = SimConfig(seed=seed, sampling="1hz", duration_s=3600.0, board_onset_mps=level_mps)
+        for r, d, _ in matched_rides(cfg):
+            if d.onset_speed_mps is not None:
+                est.append(d.onset_speed_mps)
+                true.append(r["onset_speed_mps"])
     return est, true
 
 

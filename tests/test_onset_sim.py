@@ -9,43 +9,30 @@ gives a noisy median.
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
 import pytest
 
 pytest.importorskip("sessions.simulate")
 pytest.importorskip("sessions.analysis")
 
-from sessions.analysis import analyse  # noqa: E402
-from sessions.simulate import SimConfig, simulate_session  # noqa: E402
-from sessions.track import Track, TrackMeta  # noqa: E402
+from sessions.simulate import SimConfig  # noqa: E402
+from simulated_rides import matched_rides  # noqa: E402
 
 
 def matched_onsets(sampling: str, reported: bool, seeds) -> dict:
     """Onset errors of detected rides matched to true rides by overlap."""
     speed_err, time_err, cover, found, detected = [], [], [], 0, 0
     for seed in seeds:
-        sim = simulate_session(SimConfig(seed=seed, sampling=sampling, duration_s=1500.0, reported_speed=reported))
-        track = Track(sim.points.reset_index(drop=True), TrackMeta(source=f"sim-{seed}.gpx", sha256="0" * 64))
-        start = track.points["time"].iloc[0]
-        rides = analyse(track).rides
-        used: set[int] = set()
-        for r in sim.truth["rides"]:
-            ts = (pd.Timestamp(r["start"]) - start).total_seconds()
-            te = (pd.Timestamp(r["end"]) - start).total_seconds()
-            for k, d in enumerate(rides):
-                if k in used or not (d.first_ride_s <= te and d.end_s >= ts):
-                    continue
-                used.add(k)
-                detected += 1
-                if d.onset_speed_mps is not None:
-                    found += 1
-                    speed_err.append(abs(d.onset_speed_mps - r["onset_speed_mps"]))
-                    time_err.append(abs(d.onset_time_s - ts))
-                    cover.append(d.onset_ci_mps[0] <= r["onset_speed_mps"] <= d.onset_ci_mps[1])
-                else:
-                    # no number without a reason
-                    assert d.onset_reason
-                break
+        cfg = SimConfig(seed=seed, sampling=sampling, duration_s=1500.0, reported_speed=reported)
+        for r, d, ts in matched_rides(cfg):
+            detected += 1
+            if d.onset_speed_mps is not None:
+                found += 1
+                speed_err.append(abs(d.onset_speed_mps - r["onset_speed_mps"]))
+                time_err.append(abs(d.onset_time_s - ts))
+                cover.append(d.onset_ci_mps[0] <= r["onset_speed_mps"] <= d.onset_ci_mps[1])
+            else:
+                # no number without a reason
+                assert d.onset_reason
     return {
         "detected": detected,
         "found": found,
