@@ -76,6 +76,10 @@ def main(argv: list[str] | None = None) -> int:
         level=logging.INFO if args.verbose else logging.WARNING,
         format="floatlift: %(levelname)s: %(message)s",
     )
+    if not args.verbose:
+        # the database driver logs its own notes when a server goes away mid-command; the
+        # user gets our one-line error instead (with -v they are shown)
+        logging.getLogger("psycopg").setLevel(logging.ERROR)
     warnings.showwarning = _show_warning
     func = getattr(args, "func", None)
     if func is None:
