@@ -27,9 +27,10 @@ of the estimated to the true difference between the medians of the 2.0 and 4.0 l
 Seeds 0..N-1 here; the settings were chosen on seeds from 1000 on.
 
 ``--floor N`` adds a third table for 5 Hz without device speed: the estimator on N
-sessions (seeds 1000..) as simulated and with one part of the simulated GNSS error
-switched off (the white error; the slowly varying, receiver-filtered error; the
-receiver's filter), showing which part of the error sets the accuracy.
+sessions (seeds 1000..) as simulated, with one part of the simulated GNSS error
+switched off (the white error; the receiver's velocity error; the slow wander), and
+with the receiver's velocity error fixed at 0.05-0.30 m/s per axis, showing which part
+of the error sets the accuracy and how it grows with a poorer receiver.
 
 The simulator's truth is the reference; the simulated sessions are invented data.
 """
@@ -191,8 +192,13 @@ def summarise_levels(df: pd.DataFrame) -> pd.DataFrame:
 FLOOR_CASES = (
     ("as simulated", {}),
     ("no white error", {"gps_white_m": 0.0}),
-    ("no slowly varying error", {"gps_sigma_m": 0.0}),
-    ("slowly varying error, no receiver filter", {"gps_smoothing_s": 0.0}),
+    ("no receiver velocity error", {"gps_velocity_sd_mps": 0.0}),
+    ("no slow wander", {"gps_sigma_m": 0.0}),
+    ("no GNSS error at all", {"gps_white_m": 0.0, "gps_velocity_sd_mps": 0.0, "gps_sigma_m": 0.0}),
+    ("receiver velocity error 0.05 m/s", {"gps_velocity_sd_mps": 0.05}),
+    ("receiver velocity error 0.10 m/s", {"gps_velocity_sd_mps": 0.10}),
+    ("receiver velocity error 0.20 m/s", {"gps_velocity_sd_mps": 0.20}),
+    ("receiver velocity error 0.30 m/s", {"gps_velocity_sd_mps": 0.30}),
 )
 
 

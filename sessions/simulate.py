@@ -9,8 +9,10 @@ the line-up (drift with the current, bobbing on the swell), sprint-paddling for 
 board), the planing onset, the ride (fast acceleration, trim or turns, then a kick-out
 or a fall), paddling back out, and at the end paddling in and walking up the beach.
 
-The observed track adds consumer-GPS errors to that motion: correlated position error
-(first-order Gauss-Markov), white noise, rare outlier jumps, dropouts (the watch under
+The observed track adds consumer-GPS errors to that motion: a slowly wandering position
+error (second-order Gauss-Markov), the integral of the receiver's own velocity error
+(which its navigation filter carries into the position), white noise, rare outlier
+jumps, dropouts (the watch under
 water after falls and duck dives), one of three sampling schemes, optional device speed
 and elevation. The truth (:attr:`SimulatedSession.truth`, schema ``floatlift.truth/1``)
 describes the noise-free motion; ``docs/simulator.md`` documents it.
@@ -117,9 +119,11 @@ class SimConfig:
     catch_rate: float = 0.65  # share of attempts that become rides
     current_mps: float | None = None  # drawn 0.02-0.20 m/s
     paddle_speed_mps: float | None = None  # drawn 0.9-1.2 m/s
-    gps_sigma_m: float | None = None  # correlated error, drawn 1.5-5 m
-    gps_tau_s: float = 40.0  # its time constant
-    gps_smoothing_s: float = 3.0  # receiver filter time constant (0: none)
+    gps_sigma_m: float | None = None  # slowly wandering error per axis, drawn 1.5-5 m
+    gps_tau_s: float = 60.0  # its time constant (second order: two stages of this)
+    gps_velocity_sd_mps: float | None = None  # receiver velocity error per axis, drawn 0.05-0.20
+    gps_velocity_tau_s: float = 1.0  # its correlation time
+    gps_pull_s: float = 20.0  # how fast the receiver's ranges pull the integrated error back
     gps_white_m: float = 0.1  # white error per fix and axis
     outlier_rate: float = 1.0 / 2000.0  # per fix
     dropouts: bool = True
@@ -147,7 +151,8 @@ class SimConfig:
             ("catch_rate", self.catch_rate, 0.05, 1.0),
             ("gps_tau_s", self.gps_tau_s, 1.0, 600.0),
             ("gps_white_m", self.gps_white_m, 0.0, 20.0),
-            ("gps_smoothing_s", self.gps_smoothing_s, 0.0, 60.0),
+            ("gps_velocity_tau_s", self.gps_velocity_tau_s, 0.2, 30.0),
+            ("gps_pull_s", self.gps_pull_s, 1.0, 600.0),
             ("outlier_rate", self.outlier_rate, 0.0, 0.05),
             ("speed_noise_mps", self.speed_noise_mps, 0.0, 2.0),
             ("origin_lat", self.origin_lat, -80.0, 80.0),
@@ -169,6 +174,7 @@ class SimConfig:
             ("current_mps", 0.0, 1.0),
             ("paddle_speed_mps", 0.4, 2.0),
             ("gps_sigma_m", 0.0, 30.0),
+            ("gps_velocity_sd_mps", 0.0, 2.0),
         ):
             value = getattr(self, name)
             if value is not None:
@@ -307,6 +313,7 @@ class _Scene:
     current_y_mps: float
     paddle_speed_mps: float
     gps_sigma_m: float
+    gps_velocity_sd_mps: float
     wave_speed_mps: float
     orbital_mps: float
     ride_dir: int  # +1 or -1: favoured direction along the shore
@@ -318,6 +325,7 @@ def _draw_scene(cfg: SimConfig, rng: np.random.Generator) -> _Scene:
     cur_dir = rng.uniform(0.0, 2 * math.pi)
     paddle = cfg.paddle_speed_mps if cfg.paddle_speed_mps is not None else rng.uniform(0.9, 1.2)
     sigma = cfg.gps_sigma_m if cfg.gps_sigma_m is not None else rng.uniform(1.5, 5.0)
+    vel_sd = cfg.gps_velocity_sd_mps if cfg.gps_velocity_sd_mps is not None else rng.uniform(0.05, 0.20)
     ride_dir = 1 if rng.random() < 0.5 else -1
     return _Scene(
         lineup_x_m=float(lineup_x),
@@ -326,6 +334,7 @@ def _draw_scene(cfg: SimConfig, rng: np.random.Generator) -> _Scene:
         current_y_mps=float(current * math.sin(cur_dir)),
         paddle_speed_mps=float(paddle),
         gps_sigma_m=float(sigma),
+        gps_velocity_sd_mps=float(vel_sd),
         wave_speed_mps=breaking_wave_speed_mps(cfg.wave_face_m),
         orbital_mps=float(min(0.35, math.pi * cfg.wave_face_m / cfg.wave_period_s * 0.3)),
         ride_dir=ride_dir,
@@ -641,13 +650,9 @@ def _observe(cfg: SimConfig, scene: _Scene, motion: dict, rng: np.random.Generat
     else:
         idx = _smart_schedule(speed, rng)
 
-    # correlated position error per axis: first-order Gauss-Markov at the base step
-    a = math.exp(-DT_S / cfg.gps_tau_s)
-    gain = scene.gps_sigma_m * math.sqrt(1 - a * a)
-    e0 = rng.standard_normal(2) * scene.gps_sigma_m
-    ex = lfilter([gain], [1, -a], rng.standard_normal(n), zi=[a * e0[0]])[0]
-    ey = lfilter([gain], [1, -a], rng.standard_normal(n), zi=[a * e0[1]])[0]
-    ex, ey = _receiver_smoothing(ex, cfg), _receiver_smoothing(ey, cfg)
+    # position error per axis: slow wander plus the receiver's integrated velocity error
+    ex = _position_error(n, cfg, scene, rng)
+    ey = _position_error(n, cfg, scene, rng)
 
     keep = np.ones(n, dtype=bool)
     if cfg.dropouts:
@@ -688,7 +693,7 @@ def _observe(cfg: SimConfig, scene: _Scene, motion: dict, rng: np.random.Generat
         # the beach rises about 3 m over 45 m; the sea is 0; vertical GPS error is
         # larger and slower than horizontal (Gauss-Markov, sigma 1.5 x horizontal)
         true_ele = np.clip(-motion["x_m"][idx] / 15.0, 0.0, 3.0)
-        ez = lfilter([1.5 * gain], [1, -a], rng.standard_normal(n))
+        ez = _slow_error(n, 1.5 * scene.gps_sigma_m, cfg.gps_tau_s, rng)
         ele = np.round(true_ele + ez[idx] + rng.normal(0, 1.0, m), 1)
     else:
         ele = np.full(m, np.nan)
@@ -705,20 +710,62 @@ def _observe(cfg: SimConfig, scene: _Scene, motion: dict, rng: np.random.Generat
     return df[list(COLUMNS)]
 
 
-def _receiver_smoothing(err: np.ndarray, cfg: SimConfig) -> np.ndarray:
-    """Pass a Gauss-Markov error through the receiver's first-order navigation filter.
+def _stationary_ar1(n: int, a: float, sd: float, rng: np.random.Generator) -> np.ndarray:
+    """A stationary AR(1) series: coefficient ``a``, standard deviation ``sd``."""
+    x0 = rng.standard_normal() * sd
+    return lfilter([sd * math.sqrt(1.0 - a * a)], [1.0, -a], rng.standard_normal(n), zi=[a * x0])[0]
 
-    A receiver's position filter keeps the wander of the error but removes most of its
-    second-to-second jitter. The result is rescaled to keep the standard deviation
-    ``gps_sigma_m``: a first-order filter with time constant ``tf`` lowers the variance
-    of a Gauss-Markov process with time constant ``tau`` by ``tau / (tau + tf)``.
+
+def _slow_error(n: int, sigma: float, tau_s: float, rng: np.random.Generator) -> np.ndarray:
+    """Slowly wandering position error: a second-order Gauss-Markov process.
+
+    Two first-order stages with time constant ``tau_s`` in series (white noise -> AR(1)
+    -> the same low-pass again), so the error moves smoothly: standard deviation
+    ``sigma``, rate of change sigma / tau_s (both from the spectrum
+    c / (1 + (w tau)^2)^2). This is the part of the error that comes from satellite
+    orbits and clocks, the atmosphere and the slowly changing geometry: metres of offset
+    that change over minutes, at centimetres per second.
     """
-    tf = cfg.gps_smoothing_s
-    if tf <= 0:
-        return err
-    b = math.exp(-DT_S / tf)
-    out = lfilter([1 - b], [1, -b], err, zi=[b * err[0]])[0]
-    return out * math.sqrt((cfg.gps_tau_s + tf) / cfg.gps_tau_s)
+    if sigma <= 0.0:
+        return np.zeros(n)
+    a = math.exp(-DT_S / tau_s)
+    warm = int(math.ceil(5.0 * tau_s / DT_S))  # start from the stationary state
+    first = _stationary_ar1(n + warm, a, 1.0, rng)
+    second = lfilter([1.0 - a], [1.0, -a], first, zi=[a * first[0]])[0][warm:]
+    # rescale by the exact variance of the two stages so the SD is sigma
+    return second * (sigma / math.sqrt(_second_stage_variance(a)))
+
+
+def _second_stage_variance(a: float) -> float:
+    """Variance of (1 - a) / (1 - a z^-1) applied to a unit-variance AR(1) of coefficient a.
+
+    The output is an AR(2) with a double pole at ``a`` driven by white noise of variance
+    (1 - a)^2 (1 - a^2); an AR(2) with poles p, p has variance
+    s2 (1 + p^2) / (1 - p^2)^3.
+    """
+    return (1.0 - a) ** 2 * (1.0 - a * a) * (1.0 + a * a) / (1.0 - a * a) ** 3
+
+
+def _position_error(n: int, cfg: SimConfig, scene: _Scene, rng: np.random.Generator) -> np.ndarray:
+    """Position error of one horizontal axis at the base step [m].
+
+    The slow wander (:func:`_slow_error`) plus what the receiver's velocity error does to
+    the position: a receiver's navigation filter moves the position on with its own
+    (Doppler-based) velocity, so a velocity error ``u`` (first-order Gauss-Markov, SD
+    ``gps_velocity_sd_mps``, correlation time ``gps_velocity_tau_s``) is integrated into
+    the position, while the range measurements pull that integral back with time
+    constant ``gps_pull_s``: d' = u - d / T. Over a second or two the fixes then move by
+    the true motion plus about ``u`` times the time, as they do on a real receiver.
+    """
+    slow = _slow_error(n, scene.gps_sigma_m, cfg.gps_tau_s, rng)
+    sd_v = scene.gps_velocity_sd_mps
+    if sd_v <= 0.0:
+        return slow
+    tv, tp = cfg.gps_velocity_tau_s, cfg.gps_pull_s
+    warm = int(math.ceil(5.0 * max(tv, tp) / DT_S))
+    u = _stationary_ar1(n + warm, math.exp(-DT_S / tv), sd_v, rng)
+    d = lfilter([DT_S], [1.0, -math.exp(-DT_S / tp)], u)[warm:]
+    return slow + d
 
 
 def _smart_schedule(speed: np.ndarray, rng: np.random.Generator) -> np.ndarray:
@@ -804,6 +851,7 @@ def _truth_document(cfg: SimConfig, scene: _Scene, motion: dict, line: _Timeline
         },
         "scene": {
             "gps_sigma_m": round(scene.gps_sigma_m, 3),
+            "gps_velocity_sd_mps": round(scene.gps_velocity_sd_mps, 3),
             "current_mps": round(math.hypot(scene.current_x_mps, scene.current_y_mps), 3),
             "paddle_speed_mps": round(scene.paddle_speed_mps, 3),
             "wave_speed_mps": round(scene.wave_speed_mps, 3),
