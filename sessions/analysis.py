@@ -41,7 +41,7 @@ from sessions.track import Track
 
 #: Version of the analysis method; stored beside results so the library re-analyses
 #: sessions when it changes.
-ANALYSIS_VERSION = "1.3.0"
+ANALYSIS_VERSION = "1.4.0"
 SCHEMA = "floatlift.analysis/1"
 CAUTION = "Estimates from a GPS track only; surf within your ability and follow local rules and lifeguards."
 

@@ -10,6 +10,7 @@ synthetic 5 Hz rides.
 from __future__ import annotations
 
 import numpy as np
+import pytest
 from scipy import stats
 
 from sessions import onset
@@ -157,3 +158,26 @@ def test_sparse_fixes_give_chords_from_before_the_window():
     fix[0][25] = np.nan  # one rejected fix leaves a single 2 s gap: still 1 Hz
     _, _, _, src, spans = onset._prepare(t, v, None, None, (w0, w1), fix, track)
     assert src == "fixes" and spans[0][0] == w0
+
+
+def test_noise_estimate_ignores_a_turning_path():
+    # A board carving a steady arc (2.0 m/s on a 10 m radius, 0.2 rad/s) with 1 Hz fixes
+    # and white noise of 0.1 m; the smoothed track lags the fixes by 1 s, as a smoother
+    # does where the board turns. Across the lagging direction the displacements hold
+    # motion (about 0.4 m/s) as well as noise, so a noise estimate over all chords would
+    # take 0.35 (m/s)^2 off the squared speeds (speeds about 0.09 m/s low). Only chords on
+    # a straight smoothed path may set the correction; here none are, so the speeds stay
+    # the chord of the arc, 2 R sin(w dt / 2) / dt = 1.9967 m/s (geometry of the circle),
+    # plus the small Rice bias s^2 / (2 v) = 0.005 m/s of the uncorrected noise.
+    rng = np.random.default_rng(5)
+    r_m, v = 10.0, 2.0
+    t = np.arange(0.0, 600.0, 1.0)
+    ang = v / r_m * t
+    x, y = r_m * np.sin(ang), r_m * (1 - np.cos(ang))
+    lag = v / r_m * (t - 1.0)
+    sx, sy = r_m * np.sin(lag), r_m * (1 - np.cos(lag))
+    fx = x + rng.normal(0.0, 0.1, t.size)
+    fy = y + rng.normal(0.0, 0.1, t.size)
+    _, _, speed = _chord_speeds(t, fx, fy, sx, sy)
+    chord = 2 * r_m * np.sin(v / r_m / 2)
+    assert float(np.median(speed)) == pytest.approx(chord + 0.1**2 * 2 / (2 * v), abs=0.02)
