@@ -26,6 +26,8 @@ DEFAULT_HOST = "127.0.0.1"
 DEFAULT_PORT = 8520
 #: Largest upload the server accepts [MB]; the import page checks the same limit itself.
 MAX_UPLOAD_MB = 50
+#: How long the server may take to stop after Ctrl-C before it is killed [s].
+STOP_TIMEOUT_S = 5.0
 #: How long to wait for the server's health check after starting it [s].
 START_TIMEOUT_S = 60.0
 ENV_DB = "FLOATLIFT_DB"
@@ -182,7 +184,7 @@ def serve(url: str | None = None, *, host: str = DEFAULT_HOST, port: int | None 
         if proc.poll() is None:
             proc.terminate()
             try:
-                proc.wait(timeout=10)
+                proc.wait(timeout=STOP_TIMEOUT_S)
             except subprocess.TimeoutExpired:
                 proc.kill()
                 proc.wait()
