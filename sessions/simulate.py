@@ -95,7 +95,9 @@ class SimConfig:
     wave_period_s : float
         Swell period [s]; sets the bobbing in the line-up.
     reported_speed : bool
-        Add a device speed (Doppler) to each fix: true speed plus noise.
+        Add a device speed (Doppler) to each fix: the receiver's velocity (true velocity
+        plus its velocity error, the one that also moves the positions) plus a little
+        jitter.
     elevation : bool
         Add an elevation to each fix.
     """
@@ -127,7 +129,7 @@ class SimConfig:
     gps_white_m: float = 0.1  # white error per fix and axis
     outlier_rate: float = 1.0 / 2000.0  # per fix
     dropouts: bool = True
-    speed_noise_mps: float = 0.2
+    speed_noise_mps: float = 0.05  # device speed jitter per fix, on top of the velocity error
     decimals: int = 7  # GPX coordinate decimals
     name: str | None = None  # GPX track name
 
@@ -651,8 +653,8 @@ def _observe(cfg: SimConfig, scene: _Scene, motion: dict, rng: np.random.Generat
         idx = _smart_schedule(speed, rng)
 
     # position error per axis: slow wander plus the receiver's integrated velocity error
-    ex = _position_error(n, cfg, scene, rng)
-    ey = _position_error(n, cfg, scene, rng)
+    ex, ux = _position_error(n, cfg, scene, rng)
+    ey, uy = _position_error(n, cfg, scene, rng)
 
     keep = np.ones(n, dtype=bool)
     if cfg.dropouts:
@@ -685,7 +687,10 @@ def _observe(cfg: SimConfig, scene: _Scene, motion: dict, rng: np.random.Generat
     start = _parse_start(cfg.start)
     times = start + pd.to_timedelta(np.round(motion["t_s"][idx] * 1e3).astype(np.int64), unit="ms")
     if cfg.reported_speed:
-        spd = np.maximum(0.0, speed[idx] + rng.normal(0.0, cfg.speed_noise_mps, m))
+        # the receiver reports its own velocity solution: the true velocity plus the same
+        # velocity error that moves its positions, plus a little jitter per fix
+        vel = np.hypot(motion["vx"][idx] + ux[idx], motion["vy"][idx] + uy[idx])
+        spd = np.maximum(0.0, vel + rng.normal(0.0, cfg.speed_noise_mps, m))
         spd = np.round(spd, 3)
     else:
         spd = np.full(m, np.nan)
@@ -746,7 +751,7 @@ def _second_stage_variance(a: float) -> float:
     return (1.0 - a) ** 2 * (1.0 - a * a) * (1.0 + a * a) / (1.0 - a * a) ** 3
 
 
-def _position_error(n: int, cfg: SimConfig, scene: _Scene, rng: np.random.Generator) -> np.ndarray:
+def _position_error(n: int, cfg: SimConfig, scene: _Scene, rng: np.random.Generator) -> tuple[np.ndarray, np.ndarray]:
     """Position error of one horizontal axis at the base step [m].
 
     The slow wander (:func:`_slow_error`) plus what the receiver's velocity error does to
@@ -756,16 +761,19 @@ def _position_error(n: int, cfg: SimConfig, scene: _Scene, rng: np.random.Genera
     the position, while the range measurements pull that integral back with time
     constant ``gps_pull_s``: d' = u - d / T. Over a second or two the fixes then move by
     the true motion plus about ``u`` times the time, as they do on a real receiver.
+    Returns the position error [m] and the velocity error ``u`` [m/s] (the receiver
+    reports its velocity with that error as its device speed).
     """
     slow = _slow_error(n, scene.gps_sigma_m, cfg.gps_tau_s, rng)
     sd_v = scene.gps_velocity_sd_mps
     if sd_v <= 0.0:
-        return slow
+        return slow, np.zeros(n)
     tv, tp = cfg.gps_velocity_tau_s, cfg.gps_pull_s
     warm = int(math.ceil(5.0 * max(tv, tp) / DT_S))
     u = _stationary_ar1(n + warm, math.exp(-DT_S / tv), sd_v, rng)
-    d = lfilter([DT_S], [1.0, -math.exp(-DT_S / tp)], u)[warm:]
-    return slow + d
+    # like the true positions, the position at a step holds the velocities before it
+    d = lfilter([0.0, DT_S], [1.0, -math.exp(-DT_S / tp)], u)[warm:]
+    return slow + d, u[warm:]
 
 
 def _smart_schedule(speed: np.ndarray, rng: np.random.Generator) -> np.ndarray:
