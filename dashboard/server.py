@@ -106,8 +106,13 @@ def wait_healthy(url: str, proc: subprocess.Popen | None = None, timeout_s: floa
     return False
 
 
-def _stop_on_sigterm() -> None:
-    """Treat SIGTERM like Ctrl-C (stop the server, then return), when called from the main thread."""
+def _stop_on_signals() -> None:
+    """Treat SIGTERM like Ctrl-C (stop the server, then return), when called from the main thread.
+
+    Ctrl-C works even when the process was started with SIGINT ignored (a shell without
+    job control starts background commands that way, and Python then never raises
+    KeyboardInterrupt): the server says "Ctrl-C to stop", so it must.
+    """
     import signal
     import threading
 
@@ -116,6 +121,8 @@ def _stop_on_sigterm() -> None:
 
     if threading.current_thread() is threading.main_thread():
         signal.signal(signal.SIGTERM, _interrupt)
+        if signal.getsignal(signal.SIGINT) is signal.SIG_IGN:
+            signal.signal(signal.SIGINT, signal.default_int_handler)
 
 
 def serve(url: str | None = None, *, host: str = DEFAULT_HOST, port: int | None = None,
@@ -155,7 +162,7 @@ def serve(url: str | None = None, *, host: str = DEFAULT_HOST, port: int | None 
         raise DashboardError("the dashboard app is missing from this installation")
     env = dict(os.environ, **{ENV_DB: url})
     env.setdefault("STREAMLIT_BROWSER_GATHER_USAGE_STATS", "false")
-    _stop_on_sigterm()
+    _stop_on_signals()
     proc = subprocess.Popen(streamlit_command(host, int(port)), env=env, stdin=subprocess.DEVNULL,
                             stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
     link = address(host, int(port))

@@ -282,3 +282,26 @@ def test_hostile_names_show_as_text_on_every_page(tmp_path, monkeypatch):
             assert unescaped.search(body) is None, (page, body)
             shown_escaped += "\\<img" in body
     assert shown_escaped >= 2  # the rider's name was on the pages, escaped (review and boards)
+
+
+def test_dashboard_stops_on_ctrl_c_even_when_started_with_it_ignored(tmp_path):
+    # a shell without job control starts background commands with SIGINT ignored, and
+    # Python then never raises KeyboardInterrupt; the dashboard promises "Ctrl-C to stop"
+    from dashboard.server import free_port
+
+    url = db.sqlite_url(tmp_path / "lib.sqlite")
+    port = free_port()
+    proc = subprocess.Popen([sys.executable, "-m", "sessions", "dashboard", "--db", url, "--port", str(port)],
+                            stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True, cwd=tmp_path,
+                            preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_IGN))  # fmt: skip
+    try:
+        line = proc.stdout.readline()
+        assert line.startswith(f"floatlift dashboard: http://127.0.0.1:{port}"), line
+        proc.send_signal(signal.SIGINT)
+        assert proc.wait(timeout=45) == 0
+        assert "stopped" in proc.stdout.read()
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+            proc.wait()
+        proc.stdout.close()
