@@ -525,7 +525,8 @@ def _estimate_prepared(t: np.ndarray, y: np.ndarray, sd: np.ndarray, src: str, s
     k = max(1, min(3, n // 4))
     rise = float(np.max(y[k:]) - np.median(y[:k])) if n > k else 0.0
     if not rise >= MIN_RISE_MPS:
-        return _none(REASON_NO_RISE, f"speed rises by {rise:.2f} m/s over the window, need {MIN_RISE_MPS} m/s")
+        change = f"rises by only {rise:.2f} m/s" if rise > 0 else f"falls by {-rise:.2f} m/s"
+        return _none(REASON_NO_RISE, f"the speed {change} from catch to peak; a take-off needs a rise of {MIN_RISE_MPS} m/s")
 
     t0 = float(t[0])  # time from the first sample (conditioning of the normal equations)
     span = float(t[-1] - t[0])

@@ -226,3 +226,22 @@ def test_cli_missing_file_exits_2(tmp_path, capsys):
     assert main(["analyse", str(tmp_path / "nope.gpx")]) == 2
     err = capsys.readouterr().err
     assert "nope.gpx" in err and "Traceback" not in err
+
+
+def test_summary_says_why_a_ride_has_no_onset(tmp_path):
+    # the readable summary prints "-" for a missing onset and then the reason, so a
+    # reader is not left guessing; the reason text is the estimator's own
+    from sessions.commands.analyse import format_summary
+    from sessions.simulate import SimConfig, simulate_session
+
+    sim = simulate_session(SimConfig(seed=4, duration_s=1800))
+    track = Track(sim.points, TrackMeta(source="noon.gpx", sha256="0" * 64))
+    doc = analyse(track).to_json()
+    assert doc["rides"]
+    ride = doc["rides"][0]
+    ride.update(onset_speed_mps=None, onset_ci_mps=None,
+                onset_reason="dropout: a 6.0 s pause without fixes where the change lies")  # fmt: skip
+    out = format_summary(doc)
+    assert "no onset for ride 1: a 6.0 s pause without fixes where the change lies" in out
+    found = [r for r in doc["rides"] if r["onset_speed_mps"] is not None]
+    assert sum("no onset for ride" in ln for ln in out.splitlines()) == len(doc["rides"]) - len(found)

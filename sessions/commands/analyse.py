@@ -91,6 +91,10 @@ def format_summary(doc: dict, *, with_states: bool = False) -> str:
                 f"{r['index'] + 1:3d}  {_clock(r['catch_start'])}  {_clock(r['start'])}  {_clock(r['end'])}"
                 f"  {r['duration_s']:5.1f}  {r['distance_m']:5.0f}  {r['peak_speed_mps']:5.1f}  {r['mean_speed_mps']:5.1f}  {onset}"
             )
+        for r in doc["rides"]:
+            if r["onset_speed_mps"] is None and r.get("onset_reason"):
+                code, _, detail = r["onset_reason"].partition(": ")
+                lines.append(f"     no onset for ride {r['index'] + 1}: {detail or code}")
     if with_states:
         lines.append("")
         for st in doc["states"]:
