@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 import math
+from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -229,3 +230,32 @@ def test_help_lists_the_library_commands(capsys):
     for name in ("import", "list", "show", "reanalyse", "rider", "board", "feedback", "conditions", "export",
                  "demo"):
         assert name in out
+
+
+@pytest.mark.slow
+def test_demo_works_from_an_installed_package_without_the_sample_folder(capsys, tmp_path, monkeypatch):
+    # a wheel carries the code but not the top-level sample_tracks/ folder: the demo then
+    # writes the deterministic scenario into the data folder, the same bytes as shipped
+    import hashlib
+
+    from sessions.store import demo
+
+    monkeypatch.setenv("XDG_DATA_HOME", str(tmp_path / "data"))
+    monkeypatch.setattr(demo, "DEMO_MANIFEST", tmp_path / "not-installed" / "manifest.toml")
+    code, out, err = run(capsys, "demo", "--no-serve", "--json", "--db", db.sqlite_url(tmp_path / "d.sqlite"))
+    assert code == 0, err
+    s = json.loads(out)
+    assert s["refused"] == [] and s["sessions"] >= 20
+    made = db.data_dir() / "sample_tracks"
+    assert str(tmp_path) in str(made) and not (made.parent / "sample_tracks.partial").exists()
+
+    def digest(folder):
+        return {p.relative_to(folder).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+                for p in sorted(folder.rglob("*")) if p.is_file()}  # fmt: skip
+
+    shipped = digest(Path(__file__).resolve().parent.parent / "sample_tracks")
+    assert digest(made) == shipped
+    # run again: the copy is replaced, not added to
+    code, out, err = run(capsys, "demo", "--no-serve", "--json", "--db", db.sqlite_url(tmp_path / "d2.sqlite"))
+    assert code == 0, err
+    assert digest(made) == shipped

@@ -57,10 +57,9 @@ def build_demo_library(url: str | None = None, *, manifest: str | os.PathLike | 
     from sessions.store.library import Library
 
     t0 = time.perf_counter()
-    manifest = Path(manifest) if manifest is not None else DEMO_MANIFEST
+    manifest = Path(manifest) if manifest is not None else _scenario_manifest()
     if not manifest.is_file():
-        raise StoreError(f"the demo scenario is missing ({manifest.name} not found beside the package); "
-                         "regenerate it with 'python -m sessions.demo_scenario'")
+        raise StoreError(f"the demo scenario is missing ({manifest} not found)")
     if url is None:
         url = db.demo_url()
         _remove_sqlite_file(db.sqlite_path(url))
@@ -78,6 +77,32 @@ def build_demo_library(url: str | None = None, *, manifest: str | os.PathLike | 
     out["example"] = example
     out["caution"] = CAUTION
     return out
+
+
+def _scenario_manifest() -> Path:
+    """The sample scenario's manifest: the shipped ``sample_tracks/``, else a fresh copy.
+
+    An installed package (a wheel) carries the code but not the top-level
+    ``sample_tracks/`` folder. The scenario is deterministic, so it is then written
+    (about four seconds, byte for byte the shipped files) into ``sample_tracks`` in the
+    user's data folder, replacing an older copy that an earlier version may have made.
+    """
+    if DEMO_MANIFEST.is_file():
+        return DEMO_MANIFEST
+    import shutil
+
+    from sessions.demo_scenario import build
+
+    folder = db.data_dir() / "sample_tracks"
+    partial = folder.with_name("sample_tracks.partial")
+    try:
+        shutil.rmtree(partial, ignore_errors=True)
+        build(partial, quiet=True)
+        shutil.rmtree(folder, ignore_errors=True)
+        partial.rename(folder)
+    except OSError as exc:
+        raise StoreError(f"cannot write the demo scenario into {folder}: {exc.strerror or exc}") from exc
+    return folder / "manifest.toml"
 
 
 def _example_session(lib) -> int | None:
