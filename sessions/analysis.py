@@ -207,6 +207,8 @@ class SessionAnalysis:
             "onset_speed_mps": _num(r.onset_speed_mps),
             "onset_ci_mps": None if r.onset_ci_mps is None else [_num(r.onset_ci_mps[0]), _num(r.onset_ci_mps[1])],
             "onset_reason": r.onset_reason,
+            "onset_time_ci": None if r.onset_time_ci_s is None
+            else [self.iso_at(r.onset_time_ci_s[0]), self.iso_at(r.onset_time_ci_s[1])],
         }
 
 

@@ -75,6 +75,11 @@ def test_json_contract(one_session):
         assert pd.Timestamp(r["catch_start"]) <= pd.Timestamp(r["start"]) < pd.Timestamp(r["end"])
         assert r["peak_speed_mps"] >= r["mean_speed_mps"] > 0
         assert r["onset_ci_mps"] is None or len(r["onset_ci_mps"]) == 2
+        # the onset instant is the ride's start and lies inside its own interval
+        if r["onset_time_ci"] is not None:
+            lo, hi = (pd.Timestamp(x) for x in r["onset_time_ci"])
+            assert lo <= pd.Timestamp(r["start"]) <= hi
+        assert (r["onset_time_ci"] is None) == (r["onset_speed_mps"] is None)
     states = doc["states"]
     assert {s["state"] for s in states} <= {"shore", "paddle", "wait", "ride"}
     assert states[0]["start"] == sess["start"]
