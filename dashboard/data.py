@@ -67,8 +67,8 @@ def bump(url: str) -> None:
 
 # --- frames and records -------------------------------------------------------------------
 @st.cache_data(ttl=FRAME_TTL_S, show_spinner=False)
-def sessions_frame(url: str, gen: int) -> pd.DataFrame:
-    return library(url).sessions_frame()
+def sessions_frame(url: str, gen: int, with_sampling: bool = False) -> pd.DataFrame:
+    return library(url).sessions_frame(with_sampling=with_sampling)
 
 
 @st.cache_data(ttl=FRAME_TTL_S, show_spinner=False)
@@ -214,7 +214,7 @@ def comparison(url: str, gen: int, boards_: tuple[str, ...], riders_: tuple[str,
 
     lib = library(url)
     rides = rides_frame(url, gen)
-    sessions = sessions_frame(url, gen)
+    sessions = sessions_frame(url, gen, with_sampling=True)
     specs = {name: lib.board_object(name) for name in boards_}
     selection = cmp.Selection(boards=tuple(boards_), riders=tuple(riders_), wave_band_m=wave_band_m)
     rules = cmp.Rules(n_resamples=n_resamples)

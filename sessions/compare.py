@@ -352,12 +352,36 @@ def compare_boards(
         rides=sel_rides,
         fit_rides=fit_rides,
         sessions=sel_sessions,
-        notes=fairness_notes(summaries),
+        notes=fairness_notes(summaries, sel_sessions),
     )
 
 
-def fairness_notes(summaries: Sequence[BoardSummary]) -> tuple[str, ...]:
-    """Plain warnings when the boards were not ridden by the same riders."""
+#: Kinds of track by their median interval between fixes [s]: upper bounds and names.
+SAMPLING_KINDS: tuple[tuple[float, str], ...] = (
+    (0.5, "several fixes a second"),
+    (1.5, "a fix every second"),
+    (math.inf, "sparse fixes (a battery-saving mode)"),
+)
+#: Share of sessions by which two boards' kinds of track may differ before a note.
+SAMPLING_SHARE_GAP = 0.25
+
+
+def sampling_kind(sampling_s: float) -> str | None:
+    """The kind of track (:data:`SAMPLING_KINDS`) of a median fix interval, None if unknown."""
+    if sampling_s is None or not math.isfinite(sampling_s) or sampling_s <= 0:
+        return None
+    return next(name for bound, name in SAMPLING_KINDS if sampling_s <= bound)
+
+
+def fairness_notes(summaries: Sequence[BoardSummary], sessions: pd.DataFrame | None = None) -> tuple[str, ...]:
+    """Plain warnings when the boards were not ridden by the same riders, or recorded alike.
+
+    With a ``sampling_s`` column in ``sessions`` (median interval between fixes), a note
+    also names boards whose sessions were recorded at different fix rates: sparse tracks
+    find about half the missed waves that tracks with a fix every second find (so their
+    catch success reads high) and read low onsets high (``docs/analysis.md``,
+    ``docs/onset.md``).
+    """
     ref = summaries[0]
     notes = []
     for s in summaries[1:]:
@@ -367,6 +391,25 @@ def fairness_notes(summaries: Sequence[BoardSummary]) -> tuple[str, ...]:
                 f"{', '.join(s.riders) or 'nobody'}: raw differences mix board and rider; the "
                 "load-adjusted onset corrects for load only. Use --rider to compare like with like."
             )
+    if sessions is not None and "sampling_s" in sessions.columns and len(sessions):
+        kinds = sessions["sampling_s"].map(sampling_kind)
+        shares = {s.board: kinds[sessions["board"] == s.board].value_counts(normalize=True) for s in summaries}
+
+        def describe(board: str) -> str:
+            k = kinds[sessions["board"] == board].dropna()
+            counts = k.value_counts()
+            return ", ".join(f"{n} of {len(k)} with {name}" for name, n in counts.items()) or "unknown fix rates"
+
+        for s in summaries[1:]:
+            a, b = shares[ref.board], shares[s.board]
+            gap = max((abs(a.get(name, 0.0) - b.get(name, 0.0)) for _, name in SAMPLING_KINDS), default=0.0)
+            if gap >= SAMPLING_SHARE_GAP:
+                notes.append(
+                    f"{ref.board}'s sessions were recorded differently from {s.board}'s "
+                    f"({ref.board}: {describe(ref.board)}; {s.board}: {describe(s.board)}). Tracks with "
+                    "sparse fixes find about half the missed waves, so their catch success reads high, "
+                    "and they read low onset speeds high: compare sessions recorded the same way."
+                )
     return tuple(notes)
 
 

@@ -462,3 +462,36 @@ def test_single_session_board_has_no_residual_interval():
     assert m == pytest.approx(fr.loc[fr.board == B, cmp.RESIDUAL_METRIC].mean())
     m, lo, hi, k = fit.board_residuals[A]
     assert lo < m < hi and k == 5
+
+
+# --- recorded alike? ---------------------------------------------------------------------
+def test_sampling_kinds():
+    # the kinds follow the median interval between fixes: 5 Hz, 1 Hz, battery-saving
+    assert cmp.sampling_kind(0.2) == "several fixes a second"
+    assert cmp.sampling_kind(1.0) == "a fix every second"
+    assert cmp.sampling_kind(3.0).startswith("sparse fixes")
+    assert cmp.sampling_kind(float("nan")) is None and cmp.sampling_kind(0.0) is None
+
+
+def test_note_when_boards_were_recorded_at_different_fix_rates():
+    rides, sessions = _two_boards()
+    same = sessions.assign(sampling_s=1.0)
+    c = cmp.compare_boards(rides, same, cmp.Selection(boards=(A, B)), FAST)
+    assert c.notes == ()
+    # B's sessions recorded in a battery-saving mode, every other one: half of them sparse
+    b_rows = np.flatnonzero((sessions["board"] == B).to_numpy())
+    mixed = same.copy()
+    mixed.loc[mixed.index[b_rows[::2]], "sampling_s"] = 3.0
+    c = cmp.compare_boards(rides, mixed, cmp.Selection(boards=(A, B)), FAST)
+    assert len(c.notes) == 1
+    k = len(b_rows[::2])
+    n = len(b_rows)
+    assert f"{A}: {n} of {n} with a fix every second" in c.notes[0]
+    assert f"{n - k} of {n} with a fix every second" in c.notes[0] and f"{k} of {n} with sparse fixes" in c.notes[0]
+    assert "catch success reads high" in c.notes[0]
+    # one sparse session in six is below the threshold (a share gap of 1/6 < 0.25)
+    one = same.copy()
+    one.loc[one.index[b_rows[0]], "sampling_s"] = 3.0
+    assert cmp.compare_boards(rides, one, cmp.Selection(boards=(A, B)), FAST).notes == ()
+    # without the column (an older caller) there is no sampling note
+    assert cmp.compare_boards(rides, sessions, cmp.Selection(boards=(A, B)), FAST).notes == ()

@@ -184,10 +184,14 @@ def test_compare_page_matches_the_comparison_engine(app, library_url):
     chosen = app.multiselect(key="cmp_boards").value
     assert len(chosen) == 2
     with Library.open(library_url) as lib:
-        rides, sessions = lib.rides_frame(), lib.sessions_frame()
+        rides, sessions = lib.rides_frame(), lib.sessions_frame(with_sampling=True)
         specs = {n: lib.board_object(n) for n in chosen}
     result = cmp.compare_boards(rides, sessions, cmp.Selection(boards=tuple(chosen)), cmp.Rules(),
                                 onset_model=cmp.board_load_model(specs))
+    # the engine's fairness notes (riders, fix rates) are shown as they are
+    shown = [i.value for i in app.info]
+    for note in result.notes:
+        assert any(note.split(":")[0] in text for text in shown), (note, shown)
     table = _dataframe(app, "onset median")
     assert list(table["board"]) == chosen
     for row, summary in zip(table.itertuples(index=False), result.boards):
@@ -200,6 +204,20 @@ def test_compare_page_matches_the_comparison_engine(app, library_url):
     assert row["verdict"] == cmp.verdict_sentence(onset)
     assert row["B − A"] == pytest.approx(round(onset.estimate, 2))
     assert any(cmp.CAUTION in w.value for w in app.warning)
+
+
+def test_compare_page_shows_when_boards_were_not_ridden_or_recorded_alike(tmp_path_factory, monkeypatch):
+    # Sprig (one rider, 1 Hz and 5 Hz tracks) against Moorhen (two other riders, some
+    # battery-saving tracks): both fairness notes of the engine appear on the page
+    url = build_library(tmp_path_factory.mktemp("fair"), boards=("sprig-510", "moorhen-72"))
+    monkeypatch.setenv("FLOATLIFT_DB", url)
+    at = AppTest.from_file(APP, default_timeout=TIMEOUT_S)
+    at.run()
+    _open(at, "views/compare.py")
+    assert sorted(at.multiselect(key="cmp_boards").value) == ["Moorhen", "Sprig"]
+    shown = [i.value for i in at.info]
+    assert any("was ridden by" in t for t in shown), shown
+    assert any("recorded differently" in t and "sparse fixes" in t for t in shown), shown
 
 
 def test_compare_page_asks_for_two_boards(app):

@@ -75,6 +75,8 @@ st.subheader("Verdict")
 for d in result.differences:
     if d.metric in ("onset_speed_mps", "rides_per_hour", "catch_success"):
         st.markdown(f"- **{ui.md(_label(d.metric))}**: {ui.md(cmp.verdict_sentence(d))}")
+for note in result.notes:  # the boards were not ridden or recorded alike
+    st.info(ui.md(note))
 
 
 def _value(metric: str, x: float, digits: int = 2) -> float | None:

@@ -83,7 +83,7 @@ def _frames(lib, args, date_from, date_to):
     day_to = None if date_to is None else date_to.date()
     day_from = None if date_from is None else date_from.date()
     rides = lib.rides_frame(riders=riders, date_from=day_from, date_to=day_to)
-    sessions = lib.sessions_frame(riders=riders, date_from=day_from, date_to=day_to)
+    sessions = lib.sessions_frame(riders=riders, date_from=day_from, date_to=day_to, with_sampling=True)
     return rides, sessions
 
 

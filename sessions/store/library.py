@@ -539,10 +539,15 @@ class Library:
         frame = _frame(rows, RIDES_COLUMNS)
         return frame.sort_values(["session_start", "session_id", "ride_index"], kind="stable").reset_index(drop=True)
 
-    def sessions_frame(self, *, boards=None, riders=None, date_from=None, date_to=None) -> pd.DataFrame:
-        """One row per stored session (columns :data:`SESSIONS_COLUMNS`); filters as :meth:`rides_frame`."""
+    def sessions_frame(self, *, boards=None, riders=None, date_from=None, date_to=None,
+                       with_sampling: bool = False) -> pd.DataFrame:
+        """One row per stored session (columns :data:`SESSIONS_COLUMNS`); filters as :meth:`rides_frame`.
+
+        ``with_sampling`` adds ``sampling_s``, the track's median interval between fixes
+        (for comparisons; not part of the exported columns).
+        """
         rows = self._base_rows(boards, riders, date_from, date_to)
-        frame = _frame(rows, SESSIONS_COLUMNS)
+        frame = _frame(rows, SESSIONS_COLUMNS + (("sampling_s",) if with_sampling else ()))
         return frame.sort_values(["start", "session_id"], kind="stable").reset_index(drop=True)
 
     def _filter(self, s, stmt, boards, riders, date_from, date_to):
@@ -572,7 +577,7 @@ class Library:
         cols = [
             Session.id.label("session_id"), Session.sha256, Session.start, Session.duration_s,
             Session.time_paddle_s, Session.time_wait_s, Session.time_ride_s, Session.rides,
-            Session.missed_waves, Session.rides_per_hour, Session.rider_id,
+            Session.missed_waves, Session.rides_per_hour, Session.sampling_s, Session.rider_id,
             Rider.name.label("rider"), Rider.gear_mass_kg.label("rider_gear_mass_kg"),
             Board.name.label("board"), Board.model.label("board_model"), Board.version.label("board_version"),
             Board.mass_kg.label("board_mass_kg"), Board.volume_l.label("board_volume_l"),
