@@ -393,16 +393,18 @@ def fairness_notes(summaries: Sequence[BoardSummary], sessions: pd.DataFrame | N
             )
     if sessions is not None and "sampling_s" in sessions.columns and len(sessions):
         kinds = sessions["sampling_s"].map(sampling_kind)
-        shares = {s.board: kinds[sessions["board"] == s.board].value_counts(normalize=True) for s in summaries}
+        counts = {s.board: kinds[sessions["board"] == s.board].value_counts() for s in summaries}
+
+        def share(board: str, kind: str) -> float:
+            total = counts[board].sum()
+            return float(counts[board].get(kind, 0) / total) if total else 0.0
 
         def describe(board: str) -> str:
-            k = kinds[sessions["board"] == board].dropna()
-            counts = k.value_counts()
-            return ", ".join(f"{n} of {len(k)} with {name}" for name, n in counts.items()) or "unknown fix rates"
+            total = counts[board].sum()
+            return ", ".join(f"{n} of {total} with {kind}" for kind, n in counts[board].items()) or "unknown fix rates"
 
         for s in summaries[1:]:
-            a, b = shares[ref.board], shares[s.board]
-            gap = max((abs(a.get(name, 0.0) - b.get(name, 0.0)) for _, name in SAMPLING_KINDS), default=0.0)
+            gap = max(abs(share(ref.board, kind) - share(s.board, kind)) for _, kind in SAMPLING_KINDS)
             if gap >= SAMPLING_SHARE_GAP:
                 notes.append(
                     f"{ref.board}'s sessions were recorded differently from {s.board}'s "
