@@ -8,6 +8,8 @@ skips when the service is absent, or fails when ``FLOATLIFT_REQUIRE_SERVICES=1``
 from __future__ import annotations
 
 import os
+import signal
+import subprocess
 from pathlib import Path
 
 import pytest
@@ -26,6 +28,20 @@ def need_service(available: bool, reason: str) -> None:
     if os.environ.get("FLOATLIFT_REQUIRE_SERVICES") == "1":
         pytest.fail(f"required service missing: {reason}")
     pytest.skip(reason)
+
+
+def stop_server(proc: subprocess.Popen, timeout_s: float = 30.0) -> int:
+    """Stop a server process as Ctrl-C does; kill it if it has not ended within *timeout_s*.
+
+    Returns the exit status (negative when it had to be killed).
+    """
+    if proc.poll() is None:
+        proc.send_signal(signal.SIGINT)  # what Ctrl-C sends
+        try:
+            return proc.wait(timeout=timeout_s)
+        except subprocess.TimeoutExpired:
+            proc.kill()
+    return proc.wait()
 
 
 @pytest.fixture(scope="session")

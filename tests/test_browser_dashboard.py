@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import os
 import re
-import signal
 import subprocess
 import sys
 import time
@@ -17,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from conftest import need_service
+from conftest import need_service, stop_server
 
 PROJECT_ROOT = Path(__file__).resolve().parent.parent
 SAMPLE_TRACKS = PROJECT_ROOT / "sample_tracks" / "tracks"
@@ -68,13 +67,7 @@ def server(tmp_path_factory):
     address = re.search(r"http://\S+", line).group(0)
     assert address == f"http://127.0.0.1:{port}"
     yield address, url, proc
-    if proc.poll() is None:
-        proc.send_signal(signal.SIGINT)  # what Ctrl-C sends
-        try:
-            proc.wait(timeout=20)
-        except subprocess.TimeoutExpired:
-            proc.kill()
-            proc.wait()
+    stop_server(proc, timeout_s=20)
     proc.stdout.close()
     errors.close()
 
@@ -133,6 +126,5 @@ def test_upload_open_and_find_rides(chromium_browser, server, artifacts_dir):
     # Ctrl-C stops the server and the command ends cleanly
     # (the server gets STOP_TIMEOUT_S to stop before it is killed; the rest is slack for
     # a loaded machine)
-    proc.send_signal(signal.SIGINT)
-    assert proc.wait(timeout=45) == 0
+    assert stop_server(proc, timeout_s=45) == 0
     assert "stopped" in proc.stdout.read()

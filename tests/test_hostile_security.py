@@ -15,6 +15,7 @@ import sys
 from pathlib import Path
 
 import pytest
+from conftest import stop_server
 
 from sessions.errors import StoreError
 from sessions.store import Library, db
@@ -99,12 +100,7 @@ def test_running_dashboard_listens_on_loopback_only(tmp_path):
         assert listening, "no listening socket found for the dashboard's port"
         assert set(listening) == {"0100007F"}, listening  # 127.0.0.1 only, no wildcard, no IPv6
     finally:
-        proc.send_signal(signal.SIGINT)
-        try:
-            proc.wait(timeout=30)
-        except subprocess.TimeoutExpired:
-            proc.kill()
-            proc.wait()
+        stop_server(proc)
         proc.stdout.close()
 
 
@@ -297,8 +293,7 @@ def test_dashboard_stops_on_ctrl_c_even_when_started_with_it_ignored(tmp_path):
     try:
         line = proc.stdout.readline()
         assert line.startswith(f"floatlift dashboard: http://127.0.0.1:{port}"), line
-        proc.send_signal(signal.SIGINT)
-        assert proc.wait(timeout=45) == 0
+        assert stop_server(proc, timeout_s=45) == 0
         assert "stopped" in proc.stdout.read()
     finally:
         if proc.poll() is None:

@@ -18,7 +18,6 @@ import hashlib
 import json
 import os
 import re
-import signal
 import subprocess
 import sys
 import time
@@ -27,6 +26,7 @@ from pathlib import Path
 
 import pytest
 import sqlalchemy as sa
+from conftest import stop_server
 
 from sessions.store import Library, db
 
@@ -137,12 +137,7 @@ def test_dashboard_and_two_imports_share_one_sqlite_library(tmp_path, tracks, mo
               f"{sum(len(d['already_present']) for d in docs)} already present, 0 errors, {elapsed:.1f} s; "
               f"{page_runs} page runs (max {max(page_times):.2f} s), {health_ok} health checks answered")
     finally:
-        server.send_signal(signal.SIGINT)
-        try:
-            server.wait(timeout=30)
-        except subprocess.TimeoutExpired:
-            server.kill()
-            server.wait()
+        stop_server(server)
         server.stdout.close()
         errors.close()
 
