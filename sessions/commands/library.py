@@ -264,6 +264,14 @@ def _print_json(doc) -> None:
     sys.stdout.write("\n")
 
 
+def _print_record(args, label: str, record: dict) -> None:
+    """A session's stored feedback or conditions: JSON with --json, else one line of the set fields."""
+    if args.json:
+        _print_json(record)
+    else:
+        print(f"session {args.session_id} {label}: " + ", ".join(f"{k} {v}" for k, v in record.items() if v is not None))
+
+
 def _number(text: str, what: str) -> float:
     from sessions.errors import LibraryInputError
 
@@ -541,11 +549,7 @@ def run_feedback(args) -> int:
         raise LibraryInputError("give at least one of --paddling, --catching, --speed, --control, --note")
     with _open(args) as lib:
         fb = lib.set_feedback(args.session_id, **fields)
-    if args.json:
-        _print_json(fb)
-    else:
-        print(f"session {args.session_id} feedback: " +
-              ", ".join(f"{k} {v}" for k, v in fb.items() if v is not None))
+    _print_record(args, "feedback", fb)
     return 0
 
 
@@ -557,11 +561,7 @@ def run_conditions(args) -> int:
         raise LibraryInputError("give at least one condition (see 'floatlift conditions --help')")
     with _open(args) as lib:
         out = lib.set_conditions(args.session_id, **cond)
-    if args.json:
-        _print_json(out)
-    else:
-        print(f"session {args.session_id} conditions: " +
-              ", ".join(f"{k} {v}" for k, v in out.items() if v is not None))
+    _print_record(args, "conditions", out)
     return 0
 
 

@@ -200,12 +200,7 @@ class Library:
                             None if gear_mass_kg is _UNSET else gear_mass_kg, body_mass_kg)
         with self._tx() as s, s.begin():
             rider = _get_rider(s, name)
-            if new_name is not None:
-                new_name = _clean_name(new_name, "rider")
-                other = s.scalar(sa.select(Rider.id).where(Rider.name == new_name))
-                if other is not None and other != rider.id:
-                    raise LibraryInputError(f"rider {new_name!r} already exists")
-                rider.name = new_name
+            _rename(s, rider, new_name, "rider")
             for attr, value in (("stance", stance), ("ability", ability), ("gear_mass_kg", gear_mass_kg),
                                 ("note", note)):
                 if value is not _UNSET:
@@ -255,12 +250,7 @@ class Library:
         _check_board_fields(fields, self.BOARD_FIELDS)
         with self._tx() as s, s.begin():
             board = _get_board(s, name)
-            if new_name is not None:
-                new_name = _clean_name(new_name, "board")
-                other = s.scalar(sa.select(Board.id).where(Board.name == new_name))
-                if other is not None and other != board.id:
-                    raise LibraryInputError(f"board {new_name!r} already exists")
-                board.name = new_name
+            _rename(s, board, new_name, "board")
             for attr, value in fields.items():
                 setattr(board, attr, value)
             final = board.name
@@ -927,6 +917,18 @@ def _frame(rows: list[dict], columns: tuple[str, ...]) -> pd.DataFrame:
         else:
             data[col] = pd.Series([math.nan if v is None else v for v in values], dtype="float64")
     return pd.DataFrame(data, columns=list(columns))
+
+
+def _rename(s: OrmSession, row: Rider | Board, new_name: str | None, what: str) -> None:
+    """Give a rider or board a new unique name (nothing when *new_name* is None)."""
+    if new_name is None:
+        return
+    new_name = _clean_name(new_name, what)
+    table = type(row)
+    other = s.scalar(sa.select(table.id).where(table.name == new_name))
+    if other is not None and other != row.id:
+        raise LibraryInputError(f"{what} {new_name!r} already exists")
+    row.name = new_name
 
 
 def _get_rider(s: OrmSession, name: str) -> Rider:
