@@ -520,3 +520,18 @@ def test_a_locked_sqlite_library_gives_a_store_error(tmp_path, monkeypatch):
             other.dispose()
         sid, created = lib.store_session(make_analysis(seed=40), gpx_bytes(40), analysis_version="t1")
         assert created and lib.counts()["sessions"] == 1
+
+
+def test_rename_refuses_a_name_in_use_and_keeps_the_row(lib):
+    # riders and boards share one rename rule: a new name must be free (its own is fine)
+    lib.add_rider("Ada")
+    lib.add_rider("Bea")
+    with pytest.raises(LibraryInputError, match="rider 'Bea' already exists"):
+        lib.edit_rider("Ada", new_name="Bea")
+    assert lib.edit_rider("Ada", new_name="Ada")["name"] == "Ada"
+    lib.add_board("Tern")
+    lib.add_board("Skua")
+    with pytest.raises(LibraryInputError, match="board 'Skua' already exists"):
+        lib.edit_board("Tern", new_name=" Skua ")
+    assert lib.edit_board("Tern", new_name="Tern 2")["name"] == "Tern 2"
+    assert sorted(b["name"] for b in lib.boards()) == ["Skua", "Tern 2"]
